@@ -1,0 +1,156 @@
+package datasets
+
+import (
+	"math"
+	"math/rand/v2"
+
+	"github.com/estbench/estbench/filters"
+)
+
+// Sequence is one run of truth and measurements, row k-1 holding step k.
+type Sequence struct {
+	Nx, Nz, Steps int
+
+	T     []float64 // time of each step in seconds (Steps)
+	X0    []float64 // true initial state at step 0 (Nx)
+	Truth []float64 // true states, Steps x Nx
+	Z     []float64 // measurements, Steps x Nz
+	Has   []bool    // Has[k-1] is false when step k has no measurement
+}
+
+// Resize sizes the buffers for the given dimensions, reusing capacity.
+func (s *Sequence) Resize(nx, nz, steps int) {
+	s.Nx, s.Nz, s.Steps = nx, nz, steps
+	s.T = grow(s.T, steps)
+	s.X0 = grow(s.X0, nx)
+	s.Truth = grow(s.Truth, steps*nx)
+	s.Z = grow(s.Z, steps*nz)
+	if cap(s.Has) < steps {
+		s.Has = make([]bool, steps)
+	}
+	s.Has = s.Has[:steps]
+}
+
+// State returns the true state at step k (1-based).
+func (s *Sequence) State(k int) []float64 { return s.Truth[(k-1)*s.Nx : k*s.Nx] }
+
+// Meas returns the measurement at step k (1-based), or nil if there is none.
+func (s *Sequence) Meas(k int) []float64 {
+	if !s.Has[k-1] {
+		return nil
+	}
+	return s.Z[(k-1)*s.Nz : k*s.Nz]
+}
+
+func grow(v []float64, n int) []float64 {
+	if cap(v) < n {
+		return make([]float64, n)
+	}
+	return v[:n]
+}
+
+// Traits are what a problem declares about itself; filters declare what
+// they need and the runner matches the two.
+type Traits struct {
+	Linear            bool // transition and measurement are linear maps
+	Differentiable    bool // transition and measurement are differentiable everywhere
+	AnalyticJacobians bool // the model provides FJac and HJac
+	AdditiveNoise     bool // noise enters additively
+	GaussianNoise     bool // process and measurement noise are Gaussian
+}
+
+// Problem is a benchmark problem: a model, its prior and a simulator.
+type Problem struct {
+	Name   string
+	Model  filters.Model
+	X0, P0 []float64 // prior mean and covariance; the true x0 is drawn from N(X0, P0)
+	Steps  int
+	Dt     float64 // seconds between steps (1 for problems without physical time)
+	Scored []int   // state components scored by RMSE
+	Traits Traits
+
+	// Simulate, if not nil, replaces SimulateAdditive.
+	Simulate func(p *Problem, seq *Sequence, rng *rand.Rand)
+
+	// workspace for SimulateAdditive, sized on first use
+	lq, lr, lp []float64 // Cholesky factors of Q, R, P0
+	w          []float64 // noise draw
+}
+
+// Run fills seq with one run of the problem drawn from rng.
+func (p *Problem) Run(seq *Sequence, rng *rand.Rand) {
+	if p.Simulate != nil {
+		p.Simulate(p, seq, rng)
+		return
+	}
+	p.SimulateAdditive(seq, rng)
+}
+
+// SimulateAdditive simulates the additive-Gaussian model exactly as written:
+// x0 ~ N(X0, P0), x_k = F(x_{k-1}, k) + w_k, z_k = H(x_k, k) + v_k.
+// A Problem is not safe for concurrent use by SimulateAdditive; the runner
+// gives each worker its own Problem.
+func (p *Problem) SimulateAdditive(seq *Sequence, rng *rand.Rand) {
+	m := &p.Model
+	nx, nz := m.Nx, m.Nz
+	seq.Resize(nx, nz, p.Steps)
+	if p.lq == nil {
+		p.lq = cholOrZero(m.Q, nx)
+		p.lr = cholOrZero(m.R, nz)
+		p.lp = cholOrZero(p.P0, nx)
+		p.w = make([]float64, max(nx, nz))
+	}
+	addGaussian(seq.X0, p.X0, p.lp, p.w[:nx], rng)
+	prev := seq.X0
+	for k := 1; k <= p.Steps; k++ {
+		seq.T[k-1] = float64(k) * p.Dt
+		x := seq.State(k)
+		m.F(x, prev, k)
+		addGaussian(x, x, p.lq, p.w[:nx], rng)
+		z := seq.Z[(k-1)*nz : k*nz]
+		m.H(z, x, k)
+		addGaussian(z, z, p.lr, p.w[:nz], rng)
+		seq.Has[k-1] = true
+		prev = x
+	}
+}
+
+// addGaussian sets dst = mean + L n with n standard normal; dst may alias mean.
+func addGaussian(dst, mean, l, w []float64, rng *rand.Rand) {
+	n := len(w)
+	for i := range w {
+		w[i] = rng.NormFloat64()
+	}
+	for i := 0; i < n; i++ {
+		s := mean[i]
+		for j := 0; j <= i; j++ {
+			s += l[i*n+j] * w[j]
+		}
+		dst[i] = s
+	}
+}
+
+// cholOrZero returns the lower Cholesky factor of a symmetric positive
+// semi-definite matrix; zero pivots (noise-free components) give zero columns.
+func cholOrZero(a []float64, n int) []float64 {
+	l := make([]float64, n*n)
+	for j := 0; j < n; j++ {
+		s := a[j*n+j]
+		for k := 0; k < j; k++ {
+			s -= l[j*n+k] * l[j*n+k]
+		}
+		if s <= 1e-300 {
+			continue
+		}
+		d := math.Sqrt(s)
+		l[j*n+j] = d
+		for i := j + 1; i < n; i++ {
+			t := a[i*n+j]
+			for k := 0; k < j; k++ {
+				t -= l[i*n+k] * l[j*n+k]
+			}
+			l[i*n+j] = t / d
+		}
+	}
+	return l
+}

@@ -1,0 +1,38 @@
+// Package filters holds the state estimators of estbench behind one small
+// contract, Filter, and the Model type they run on.
+//
+// # Contract
+//
+// A filter is built once from a Model and a config (New*), then Reset with a
+// prior mean, prior covariance and random stream for each run. Predict(k)
+// propagates the estimate from step k-1 to step k; Update(z, k) conditions on
+// the measurement z of step k, and a nil z means "no measurement" (the
+// estimate stays the prediction). EstimateTo copies the current mean and
+// covariance into caller-provided destinations.
+//
+// # Memory
+//
+// All workspace is sized in New*. Reset, Predict, Update and EstimateTo
+// allocate nothing. Matrices are dense row-major []float64 of fixed small
+// size; the linear algebra in linalg.go is written for that case, without the
+// per-call overhead of a general-purpose library.
+//
+// # Errors
+//
+// A caller error (wrong dimensions) panics with a "filters:" message. A
+// numerical failure (a covariance that is not positive definite, a
+// degenerate weight set) is returned as one of the sentinel errors below,
+// which allocate nothing; the runner records it as a divergence.
+//
+// # Time and indexing
+//
+// Step k runs from 1 to K. The prior describes the state at step 0. The
+// model's transition F(dst, x, k) maps the state at k-1 to the state at k.
+//
+// # Randomness
+//
+// Filters that sample (pf) draw only from the *rand.Rand passed to Reset;
+// there is no global random state. The same stream gives the same result.
+//
+// This package imports only gonum and the standard library.
+package filters

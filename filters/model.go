@@ -1,0 +1,94 @@
+package filters
+
+import (
+	"errors"
+	"math/rand/v2"
+)
+
+// Model is a discrete-time state-space model with additive noise:
+//
+//	x_k = F(x_{k-1}, k) + w_k,  w_k ~ N(0, Q)
+//	z_k = H(x_k, k) + v_k,      v_k ~ N(0, R)
+//
+// Matrices are row-major. Function fields that are nil fall back as stated.
+// Dst never aliases x in any call a filter makes.
+type Model struct {
+	Nx, Nz int // state and measurement dimensions
+
+	// F writes the noise-free transition of x (the state at k-1) into dst.
+	F func(dst, x []float64, k int)
+	// H writes the noise-free measurement of x (the state at k) into dst.
+	H func(dst, x []float64, k int)
+
+	// FJac writes dF/dx at x (Nx*Nx, row-major) into dst.
+	// If nil, filters that need it use central differences of F.
+	FJac func(dst, x []float64, k int)
+	// HJac writes dH/dx at x (Nz*Nx, row-major) into dst.
+	// If nil, central differences of H are used.
+	HJac func(dst, x []float64, k int)
+
+	// FMany, if not nil, applies F to n = len(x)/Nx states stored one after
+	// another (particle filters use it to avoid a call per particle and to
+	// hoist work that depends only on k). If nil, F is called per state.
+	FMany func(dst, x []float64, k int)
+	// HMany is the same for H: dst holds n*Nz values.
+	HMany func(dst, x []float64, k int)
+
+	Q []float64 // process noise covariance, Nx*Nx
+	R []float64 // measurement noise covariance, Nz*Nz
+
+	// Linear reports that F and H are linear maps (F(x) = A x, H(x) = C x),
+	// with A and C given by FJac and HJac at any point.
+	Linear bool
+
+	// AngleMeas lists measurement components that are angles in radians:
+	// innovations of these components are wrapped to (-pi, pi].
+	AngleMeas []int
+	// AngleState lists state components that are angles; state residuals of
+	// these components are wrapped to (-pi, pi].
+	AngleState []int
+}
+
+// Filter is the contract every estimator satisfies. See the package
+// documentation for the meaning of each step.
+type Filter interface {
+	// Reset starts a new run from prior mean x0 and covariance p0 (Nx*Nx).
+	// The inputs are copied; rng is kept for the run (nil if unused).
+	Reset(x0, p0 []float64, rng *rand.Rand) error
+	// Predict propagates the estimate to step k.
+	Predict(k int) error
+	// Update conditions on the measurement z of step k; z == nil skips it.
+	Update(z []float64, k int) error
+	// EstimateTo copies the mean into x (len Nx) and, if p is not nil, the
+	// covariance into p (len Nx*Nx).
+	EstimateTo(x, p []float64)
+}
+
+// Innovator is implemented by filters that expose the innovation of the
+// last Update that had a measurement: nu = z - zhat (angles wrapped) and its
+// covariance S (Nz*Nz). It reports false if there was none.
+type Innovator interface {
+	InnovationTo(nu, s []float64) bool
+}
+
+// ESSer is implemented by particle filters: the effective sample size of
+// the weights at the last Update, before resampling.
+type ESSer interface {
+	ESS() float64
+}
+
+// Numerical failures. They are values so a step never allocates to report one.
+var (
+	ErrNotPosDef   = errors.New("filters: covariance not positive definite")
+	ErrNonFinite   = errors.New("filters: estimate not finite")
+	ErrWeightsZero = errors.New("filters: all particle weights are zero")
+)
+
+func (m *Model) check() {
+	if m.Nx <= 0 || m.Nz <= 0 || m.F == nil || m.H == nil {
+		panic("filters: model needs Nx, Nz > 0, F and H")
+	}
+	if len(m.Q) != m.Nx*m.Nx || len(m.R) != m.Nz*m.Nz {
+		panic("filters: model Q or R has the wrong size")
+	}
+}

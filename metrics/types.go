@@ -1,0 +1,50 @@
+package metrics
+
+// RunTrace is what the runner records for one filter configuration on one
+// Monte Carlo run. Its slices have one entry per step k = 1..Steps and are
+// reused from run to run by the runner (an accumulator never keeps them).
+type RunTrace struct {
+	Run int // run index r
+
+	SqErr []float64 // squared error norm over the scored components
+	NEES  []float64 // normalised estimation error squared, full state
+	NIS   []float64 // normalised innovation squared; NaN where no measurement
+
+	NsPerStep float64   // wall time of the filter steps divided by the steps
+	ESS       []float64 // effective sample size per step (nil for non-particle filters)
+
+	Diverged bool   // the run stopped early
+	DivStep  int    // step at which it diverged (1-based), 0 if not
+	Reason   string // why: "covariance not positive definite", "NaN estimate", "panic: ..."
+}
+
+// Summary is the one-row result of a filter configuration on a problem.
+// Values that cannot be computed (no runs left) are NaN.
+type Summary struct {
+	Runs     int // Monte Carlo runs attempted
+	Diverged int // runs that diverged and are excluded from the metrics below
+
+	RMSE, RMSELo, RMSEHi float64 // RMSE and its 95% bootstrap interval over runs
+
+	ANEES, ANEESLo, ANEESHi float64 // average NEES and its two-sided 95% chi-square bounds
+	NEESInBounds            float64 // fraction of steps whose run-averaged NEES is inside its own 95% bounds
+
+	ANIS, ANISLo, ANISHi float64 // the same for NIS
+	NISInBounds          float64
+
+	NsPerStep float64 // median over runs of filter time per step
+	MeanESS   float64 // mean effective sample size (NaN for non-particle filters)
+
+	Warnings []string // degraded but usable results, each saying what to do
+}
+
+// CurvePoint is one step of a per-step curve over runs.
+type CurvePoint struct {
+	Step    int
+	RMSE    float64 // sqrt of the mean over runs of the squared error norm at this step
+	ANEES   float64 // NEES averaged over runs at this step
+	ANEESLo float64 // its 95% bounds for the runs that contributed
+	ANEESHi float64
+	ANIS    float64 // NaN where no run had a measurement
+	Runs    int     // runs that contributed (non-diverged)
+}
