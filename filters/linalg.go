@@ -156,3 +156,6 @@ func identity(a []float64, n int) {
 		a[i*n+i] = 1
 	}
 }
+
+// WrapAngle maps an angle in radians to (-pi, pi].
+func WrapAngle(a float64) float64 { return wrapAngle(a) }
