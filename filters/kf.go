@@ -58,7 +58,8 @@ func (f *KF) Update(z []float64, k int) error { return f.c.update(z, k) }
 // EstimateTo implements Filter.
 func (f *KF) EstimateTo(x, p []float64) { f.c.estimateTo(x, p) }
 
-// InnovationTo implements Innovator. s may be nil.
+// InnovationTo implements Innovator. s may be nil. It reports false after
+// Predict until an Update with a measurement succeeds.
 func (f *KF) InnovationTo(nu, s []float64) bool { return f.c.innovationTo(nu, s) }
 
 // LogLikelihood returns the Gaussian log-likelihood of the innovations of

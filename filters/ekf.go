@@ -1,0 +1,76 @@
+package filters
+
+import (
+	"errors"
+	"math/rand/v2"
+)
+
+// EKFConfig configures NewEKF. The zero value gives the defaults.
+type EKFConfig struct {
+	// Step is the relative central-difference step used when the model has
+	// no FJac or HJac: component i is perturbed by ±Step*max(1, |x_i|).
+	// If zero, 1e-6 is used (about the cube root of the float64 epsilon,
+	// which balances truncation and rounding error of central differences;
+	// common practice, no source).
+	Step float64
+}
+
+// DefaultEKFStep is the central-difference step used when EKFConfig.Step
+// is zero.
+const DefaultEKFStep = 1e-6
+
+// EKF is the extended Kalman filter: the Kalman filter (Kalman 1960) applied
+// to the model linearised about the current estimate, as in Bar-Shalom, Li
+// & Kirubarajan 2001, "Estimation with Applications to Tracking and
+// Navigation", §10.3.
+//
+// The prediction is x = F(x), P = A P Aᵀ + Q with A = FJac at the previous
+// estimate; the update linearises H at the predicted estimate,
+// C = HJac(x), S = C P Cᵀ + R, K = P Cᵀ S⁻¹ (by Cholesky of S), and uses the
+// Joseph form P = (I-KC) P (I-KC)ᵀ + K R Kᵀ (Bar-Shalom et al. 2001, §5.2).
+// Innovations of Model.AngleMeas components are wrapped to (-π, π], and
+// Model.AngleState components of the mean are wrapped after each step.
+//
+// The Jacobians are the model's FJac and HJac when set. Otherwise they are
+// central differences, component i perturbed by h_i = Step*max(1, |x_i|)
+// (EKFConfig.Step, default 1e-6), with the differences of angle outputs
+// wrapped; this costs 2*Nx calls of F or H per step.
+//
+// On a linear model the EKF is the Kalman filter. It implements Filter and
+// Innovator.
+type EKF struct {
+	c linCore
+}
+
+// NewEKF returns an extended Kalman filter for m.
+func NewEKF(m *Model, cfg EKFConfig) (*EKF, error) {
+	m.check()
+	step := cfg.Step
+	if step == 0 {
+		step = DefaultEKFStep
+	}
+	if !(step > 0) {
+		return nil, errors.New("filters: ekf: Step must be positive")
+	}
+	f := &EKF{}
+	f.c.init(m)
+	f.c.step = step
+	f.c.wrapState = true
+	return f, nil
+}
+
+// Reset implements Filter. rng is not used.
+func (f *EKF) Reset(x0, p0 []float64, rng *rand.Rand) error { return f.c.reset(x0, p0) }
+
+// Predict implements Filter.
+func (f *EKF) Predict(k int) error { return f.c.predict(k) }
+
+// Update implements Filter.
+func (f *EKF) Update(z []float64, k int) error { return f.c.update(z, k) }
+
+// EstimateTo implements Filter.
+func (f *EKF) EstimateTo(x, p []float64) { f.c.estimateTo(x, p) }
+
+// InnovationTo implements Innovator. s may be nil. It reports false after
+// Predict until an Update with a measurement succeeds.
+func (f *EKF) InnovationTo(nu, s []float64) bool { return f.c.innovationTo(nu, s) }

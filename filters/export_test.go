@@ -1,0 +1,4 @@
+package filters
+
+// UnscentedTransform exposes unscentedTransform to the external tests.
+var UnscentedTransform = unscentedTransform
