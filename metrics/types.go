@@ -47,4 +47,22 @@ type CurvePoint struct {
 	ANEESHi float64
 	ANIS    float64 // NaN where no run had a measurement
 	Runs    int     // runs that contributed (non-diverged)
+
+	ANISLo, ANISHi float64 // 95% bounds of ANIS for the NISRuns measurements; NaN if none
+	NISRuns        int     // non-diverged runs that had a measurement at this step
+}
+
+// RunStat is the scalar summary of one Monte Carlo run (see RunStatOf).
+// The metrics of a diverged run are NaN.
+type RunStat struct {
+	Run      int
+	Diverged bool
+	DivStep  int
+	Reason   string
+
+	RMSE      float64 // sqrt of the mean over steps of SqErr
+	ANEES     float64 // mean over steps of NEES
+	ANIS      float64 // mean of NIS over the steps with a measurement; NaN if none
+	NsPerStep float64 // as recorded in the trace, also for a diverged run
+	MeanESS   float64 // mean over steps of ESS; NaN without ESS
 }

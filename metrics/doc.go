@@ -1,0 +1,96 @@
+// Package metrics turns the per-run traces the runner records into the
+// scores of estbench: RMSE with a bootstrap interval, NEES and NIS with
+// chi-square consistency bounds, divergence counts, runtime and effective
+// sample size. It also holds the statistics they rest on (chi-square
+// bounds, a reusable percentile bootstrap, quantiles, running moments) and
+// the normalised squared error eᵀC⁻¹e behind NEES and NIS (Normalised).
+//
+// # Streaming and memory
+//
+// An Accumulator takes one RunTrace per run (Add) and keeps none of its
+// slices: per step it holds the sums over runs of the squared error, NEES
+// and NIS and the count of runs with a measurement (O(steps)); per usable
+// run it holds two float64 (the run's mean squared error, for the
+// bootstrap, and its ns per step, for the median). Memory is therefore
+// O(steps + runs), never O(steps × runs). Grow pre-sizes the per-run part so
+// that Add allocates nothing. Summary and Curves read the sums without
+// changing them.
+//
+// # Determinism
+//
+// Runs are added in increasing run order (Add panics otherwise), which fixes
+// the order of every floating-point sum; there is no map iteration and no
+// parallelism, and the bootstrap draws from math/rand/v2's PCG seeded by the
+// caller. The same runs and seed give a bit-identical Summary however the
+// runs were computed.
+//
+// # Definitions
+//
+// Let M be the number of non-diverged runs, K the number of steps, e_r(k)²
+// the squared error norm (SqErr), ε_r(k) the NEES and ν_r(k) the NIS of run
+// r at step k, and nx, nz the state and measurement dimensions.
+//
+//	RMSE  = sqrt( Σ_r Σ_k e_r(k)² / (M·K) )
+//	ANEES = Σ_r Σ_k ε_r(k) / (M·K)       (the mean over k of ε̄(k) = Σ_r ε_r(k)/M)
+//	ANIS  = Σ_(r,k)∈S ν_r(k) / |S|       (S: the (run, step) pairs with a measurement)
+//
+// For a consistent estimator with Gaussian errors each ε_r(k) is χ²_nx and
+// each ν_r(k) is χ²_nz, so M·ε̄(k) is χ²_(M·nx), and M·K·ANEES is
+// χ²_(M·K·nx) when the steps are treated as independent (Bar-Shalom, Li &
+// Kirubarajan 2001, "Estimation with Applications to Tracking and
+// Navigation", §5.4.2). The acceptance interval of an average of m such
+// values of n degrees of freedom each, at level 0.95, is
+//
+//	ChiSquareBounds(m·n, m, 0.95) = [χ²_(m·n)(0.025), χ²_(m·n)(0.975)] / m
+//
+// with quantiles from gonum's distuv.ChiSquared. ANEESLo/Hi use m = M·K,
+// ANISLo/Hi use m = |S|. NEESInBounds is the fraction of the K steps whose
+// ε̄(k) lies in ChiSquareBounds(M·nx, M, 0.95); NISInBounds is the fraction
+// of the steps with at least one measurement whose average NIS over their
+// c(k) measurements lies in ChiSquareBounds(c(k)·nz, c(k), 0.95)
+// (Bar-Shalom et al. 2001, §5.4). A consistent estimator has both near 0.95.
+// ANEES is not divided by nx: a consistent estimator has ANEES near nx.
+//
+// RMSELo/Hi is the 95% percentile bootstrap interval over runs (Efron &
+// Tibshirani 1993, "An Introduction to the Bootstrap", §13.3): runs are
+// resampled with replacement, each resample scored as the square root of
+// the mean of its runs' mean squared errors, Resamples (default 2000)
+// times; the ends are the 0.025 and 0.975 quantiles of those scores.
+// Quantiles, the median included, interpolate linearly between order
+// statistics (Hyndman & Fan 1996, "Sample quantiles in statistical
+// packages", definition 7, the default of R and NumPy).
+//
+// NsPerStep is the median over the non-diverged runs of each run's ns per
+// step: a diverged run stopped early and its timing covers a different
+// amount of work. MeanESS is the mean over the non-diverged runs that report
+// ESS and all their steps. Moments gives a running mean and variance by
+// Welford's update (Welford 1962, Technometrics 4(3)).
+//
+// # Divergence, NaN and warnings
+//
+// A diverged run is counted in Summary.Diverged and its values are ignored
+// entirely: its slices may hold NaN, partial or stale values. Every metric
+// that has nothing to be computed from is NaN: all metrics when no run is
+// usable; RMSELo/Hi with fewer than 2 usable runs; the NIS metrics when nz
+// is 0 or no step had a measurement; MeanESS when no run reported ESS. A NIS
+// value of NaN means "no measurement at this step". A NaN in SqErr or NEES
+// of a run not marked diverged propagates into the metrics: the runner marks
+// such runs diverged.
+//
+// Summary.Warnings says what degraded a result and what to do:
+//
+//   - "N of M runs diverged (first: run r, step k: reason)", with the first
+//     line of the first diverged run's reason;
+//   - "bounds from N runs are loose; use --runs 20 or more" with fewer than
+//     10 usable runs (a common rule of thumb, no source);
+//   - "the RMSE interval needs at least 2 runs" with one usable run;
+//   - "no runs were added" when Add was never called.
+//
+// # Errors
+//
+// Caller mistakes (a trace of the wrong length, runs out of order,
+// impossible arguments) panic with a "metrics:" message. Library code here
+// never prints.
+//
+// This package imports only gonum and the standard library.
+package metrics
