@@ -87,7 +87,10 @@ func (p *Problem) Run(seq *Sequence, rng *rand.Rand) {
 }
 
 // SimulateAdditive simulates the additive-Gaussian model exactly as written:
-// x0 ~ N(X0, P0), x_k = F(x_{k-1}, k) + w_k, z_k = H(x_k, k) + v_k.
+// x0 ~ N(X0, P0), x_k = F(x_{k-1}, k) + w_k, z_k = H(x_k, k) + v_k, with
+// the Model.AngleMeas components of z_k then wrapped to (-π, π] as a sensor
+// reports them. The Cholesky factors of Q, R and P0 are computed on the
+// first call and kept: change Model.Q, Model.R or P0 only before it.
 // A Problem is not safe for concurrent use by SimulateAdditive; the runner
 // gives each worker its own Problem.
 func (p *Problem) SimulateAdditive(seq *Sequence, rng *rand.Rand) {
@@ -110,6 +113,9 @@ func (p *Problem) SimulateAdditive(seq *Sequence, rng *rand.Rand) {
 		z := seq.Z[(k-1)*nz : k*nz]
 		m.H(z, x, k)
 		addGaussian(z, z, p.lr, p.w[:nz], rng)
+		for _, i := range m.AngleMeas {
+			z[i] = wrapPi(z[i])
+		}
 		seq.Has[k-1] = true
 		prev = x
 	}
@@ -131,7 +137,11 @@ func addGaussian(dst, mean, l, w []float64, rng *rand.Rand) {
 }
 
 // cholOrZero returns the lower Cholesky factor of a symmetric positive
-// semi-definite matrix; zero pivots (noise-free components) give zero columns.
+// semi-definite matrix; zero pivots (noise-free components, or components
+// fixed by the others as in a rank-one process noise Γ q Γᵀ) give zero
+// columns. A pivot is taken as zero when it is at most 1e-12 times its
+// diagonal entry, so that rounding in a singular matrix leaves no spurious
+// tiny pivot to divide by.
 func cholOrZero(a []float64, n int) []float64 {
 	l := make([]float64, n*n)
 	for j := 0; j < n; j++ {
@@ -139,7 +149,7 @@ func cholOrZero(a []float64, n int) []float64 {
 		for k := 0; k < j; k++ {
 			s -= l[j*n+k] * l[j*n+k]
 		}
-		if s <= 1e-300 {
+		if s <= 1e-12*a[j*n+j] || s <= 1e-300 {
 			continue
 		}
 		d := math.Sqrt(s)
@@ -153,4 +163,16 @@ func cholOrZero(a []float64, n int) []float64 {
 		}
 	}
 	return l
+}
+
+// wrapPi maps an angle in radians to (-π, π].
+func wrapPi(a float64) float64 {
+	if a > -math.Pi && a <= math.Pi {
+		return a
+	}
+	r := math.Remainder(a, 2*math.Pi)
+	if r <= -math.Pi {
+		r += 2 * math.Pi
+	}
+	return r
 }
