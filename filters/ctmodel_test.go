@@ -2,6 +2,7 @@ package filters_test
 
 import (
 	"math"
+	"testing"
 
 	"github.com/estbench/estbench/filters"
 )
@@ -113,4 +114,51 @@ func ctPrior() (x0, p0 []float64) {
 		0, 0, 0, 0, 1e-4,
 	}
 	return x0, p0
+}
+
+// westTarget returns a prior for ctRangeBearing: a target at rest 1 km
+// out at bearing −179° (just south of due west), position sd 10 m, so
+// sigma points straddle the ±π bearing cut; and a measurement of it at
+// bearing +179°.
+func westTarget() (x0, p0, z []float64) {
+	b := -179 * math.Pi / 180
+	x0 = []float64{1000 * math.Cos(b), 0, 1000 * math.Sin(b), 0, 0}
+	p0 = []float64{
+		100, 0, 0, 0, 0,
+		0, 1e-2, 0, 0, 0,
+		0, 0, 100, 0, 0,
+		0, 0, 0, 1e-2, 0,
+		0, 0, 0, 0, 1e-8,
+	}
+	return x0, p0, []float64{1000, 179 * math.Pi / 180}
+}
+
+// checkWestInnovation runs one step of f on westTarget and checks that the
+// bearing innovation is about −2° (wrapped), not 358°, to within tol
+// radians, and that the estimate moved north (the short way round).
+func checkWestInnovation(t *testing.T, f filters.Filter, tol float64) {
+	t.Helper()
+	x0, p0, z := westTarget()
+	if err := f.Reset(x0, p0, nil); err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Predict(1); err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Update(z, 1); err != nil {
+		t.Fatal(err)
+	}
+	nu := make([]float64, 2)
+	if !f.(filters.Innovator).InnovationTo(nu, nil) {
+		t.Fatal("no innovation")
+	}
+	want := -2 * math.Pi / 180
+	if math.Abs(nu[1]-want) > tol {
+		t.Errorf("bearing innovation %.6g rad (%.4g°), want %.6g rad (-2°) within %g", nu[1], nu[1]*180/math.Pi, want, tol)
+	}
+	x := make([]float64, 5)
+	f.EstimateTo(x, nil)
+	if !(x[2] > x0[2]) {
+		t.Errorf("py went from %.4g to %.4g: the update did not move the short way round", x0[2], x[2])
+	}
 }

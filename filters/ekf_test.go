@@ -105,3 +105,50 @@ func TestEKFDifferencedEqualsAnalytic(t *testing.T) {
 		}
 	}
 }
+
+// A target just south of due west, predicted at bearing −179° and measured
+// at +179°: the innovation is −2°, not 358° (Model.AngleMeas contract). The
+// EKF's predicted bearing is H(x̄) exactly, so only rounding remains.
+// With differenced Jacobians the bearing differences across the cut are
+// wrapped too, so the result is the same as with analytic ones.
+func TestEKFAngleInnovationWrapped(t *testing.T) {
+	m := ctRangeBearing()
+	checkWestInnovation(t, newEKF(t, m, filters.EKFConfig{}), 1e-12)
+	num := *m
+	num.FJac, num.HJac = nil, nil
+	checkWestInnovation(t, newEKF(t, &num, filters.EKFConfig{}), 1e-12)
+
+	// Exactly due west (bearing π): the differenced Jacobian straddles the
+	// cut and must equal the analytic one. With py = 0 the step is 1e-6 m,
+	// so the bearing difference is about 2e-9 rad taken between values of
+	// size π, each rounded to ε·π: a relative error near 3e-7 in that
+	// Jacobian entry (estimate derived here), hence the tolerance 1e-6.
+	x0, p0, z := westTarget()
+	x0[0], x0[2] = -1000, 0
+	a, b := newEKF(t, m, filters.EKFConfig{}), newEKF(t, &num, filters.EKFConfig{})
+	pa, pb := make([]float64, 25), make([]float64, 25)
+	xa, xb := make([]float64, 5), make([]float64, 5)
+	for _, f := range []*filters.EKF{a, b} {
+		if err := f.Reset(x0, p0, nil); err != nil {
+			t.Fatal(err)
+		}
+		if err := f.Predict(1); err != nil {
+			t.Fatal(err)
+		}
+		if err := f.Update(z, 1); err != nil {
+			t.Fatal(err)
+		}
+	}
+	a.EstimateTo(xa, pa)
+	b.EstimateTo(xb, pb)
+	for i := range xa {
+		if !scalar.EqualWithinAbsOrRel(xb[i], xa[i], 1e-6, 1e-6) {
+			t.Errorf("due west: mean[%d] differenced %.12g, analytic %.12g", i, xb[i], xa[i])
+		}
+	}
+	for i := range pa {
+		if !scalar.EqualWithinAbsOrRel(pb[i], pa[i], 1e-6, 1e-6) {
+			t.Errorf("due west: cov[%d] differenced %.12g, analytic %.12g", i, pb[i], pa[i])
+		}
+	}
+}

@@ -151,3 +151,14 @@ func TestUKFCircularStateMean(t *testing.T) {
 		t.Errorf("predicted variance %v, want %v", p[0], want)
 	}
 }
+
+// The same target for the UKF: its sigma points straddle the ±π cut
+// (bearings −179° ± 1.3°), so the predicted bearing must be a circular mean
+// (an arithmetic mean would land near 0°). The tolerance 1e-4 rad allows
+// the UKF's second-order shift of ẑ from H(x̄), which is below
+// σ²/r² ≈ 1e-4 for σ = 10 m at r = 1 km (estimate derived here).
+func TestUKFAngleInnovationWrapped(t *testing.T) {
+	for _, cfg := range ukfConfigs {
+		checkWestInnovation(t, newUKF(t, ctRangeBearing(), cfg), 1e-4)
+	}
+}
