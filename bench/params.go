@@ -74,7 +74,6 @@ type ProblemSpec struct {
 	Name    string
 	Summary string
 	Source  string // published source
-	Traits  datasets.Traits
 	Params  []Param
 	// Build makes a problem from a full set of parameter values.
 	Build func(v Values) (*datasets.Problem, error)

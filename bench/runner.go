@@ -1,0 +1,453 @@
+package bench
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"runtime"
+	"strings"
+	"sync"
+	"time"
+
+	"github.com/estbench/estbench/datasets"
+	"github.com/estbench/estbench/filters"
+	"github.com/estbench/estbench/metrics"
+)
+
+// Options control how a suite is run. They never change its results.
+type Options struct {
+	// Workers is the number of runs computed in parallel. If zero,
+	// runtime.GOMAXPROCS(0) is used.
+	Workers int
+	// Progress, if not nil, is called after each finished run of a problem
+	// (all its filters), from one goroutine, with the runs done and total.
+	Progress func(done, total int)
+	// OnRun, if not nil, receives each run's scalar result in a
+	// deterministic order (problem, then run, then filter as in the suite).
+	OnRun func(p *Pair, st metrics.RunStat)
+}
+
+// Pair is the result of one filter configuration on one problem.
+type Pair struct {
+	Problem       string // problem name, with its non-default parameters in brackets
+	Filter        string // filter name
+	Config        string // non-default filter parameters, "key=value ..." in key order
+	Applicable    bool
+	Note          string // why the pair does not apply; empty when it does
+	Summary       metrics.Summary
+	Curves        []metrics.CurvePoint
+	AllocsPerStep float64 // measured on run 0, steps only, after set-up
+}
+
+// Outcome is the result of a whole suite.
+type Outcome struct {
+	Suite      *Suite
+	Pairs      []*Pair // in suite order: problems, then filters
+	Start, End time.Time
+}
+
+// ErrRunFailed is returned (wrapped) when a suite cannot be run at all.
+var ErrRunFailed = errors.New("bench: run failed")
+
+// problemPlan is what the runner needs for one problem of the suite.
+type problemPlan struct {
+	cfg     ProblemConfig
+	key     string // identity for stream derivation: name and all values
+	label   string
+	filters []FilterConfig // applicable configurations
+	pairs   []*Pair        // their result rows
+	purpose []string       // stream purpose of each configuration
+}
+
+// Run runs every applicable (problem, filter configuration) pair of the suite
+// over s.Runs Monte Carlo runs.
+func Run(s *Suite, opt Options) (*Outcome, error) {
+	workers := opt.Workers
+	if workers <= 0 {
+		workers = runtime.GOMAXPROCS(0)
+	}
+	out := &Outcome{Suite: s, Start: time.Now().UTC()}
+	counts := map[string]int{}
+	for _, pc := range s.Problems {
+		counts[pc.Spec.Name]++
+	}
+	var plans []*problemPlan
+	for _, pc := range s.Problems {
+		prob, err := pc.Spec.Build(pc.Values)
+		if err != nil {
+			return nil, fmt.Errorf("%w: problem %s: %v", ErrRunFailed, pc.Spec.Name, err)
+		}
+		pl := &problemPlan{cfg: pc, key: problemKey(pc), label: problemLabel(pc, counts[pc.Spec.Name] > 1)}
+		for _, fc := range s.Filters {
+			p := &Pair{Problem: pl.label, Filter: fc.Spec.Name, Config: fc.Config}
+			out.Pairs = append(out.Pairs, p)
+			if ok, why := fc.Spec.Applies(prob.Traits); !ok {
+				p.Note = fc.Spec.Name + " " + strings.ReplaceAll(why, "{problem}", pl.label)
+				continue
+			}
+			if _, err := fc.Spec.New(&prob.Model, fc.Values); err != nil {
+				p.Note = "cannot be set up: " + err.Error()
+				continue
+			}
+			p.Applicable = true
+			pl.filters = append(pl.filters, fc)
+			pl.pairs = append(pl.pairs, p)
+			pl.purpose = append(pl.purpose, "filter "+fc.Spec.Name+" "+canonicalValues(fc.Spec.Params, fc.Values))
+		}
+		plans = append(plans, pl)
+	}
+	total := len(plans) * s.Runs
+	done := 0
+	for _, pl := range plans {
+		if err := runProblem(s, pl, workers, opt, &done, total); err != nil {
+			return nil, err
+		}
+	}
+	out.End = time.Now().UTC()
+	return out, nil
+}
+
+func problemKey(pc ProblemConfig) string {
+	return pc.Spec.Name + " " + canonicalValues(pc.Spec.Params, pc.Values)
+}
+
+func problemLabel(pc ProblemConfig, dup bool) string {
+	c := ConfigString(pc.Spec.Params, pc.Values)
+	if c == "" {
+		return pc.Spec.Name
+	}
+	return pc.Spec.Name + "(" + c + ")"
+}
+
+// canonicalValues writes every value of a configuration in parameter order.
+func canonicalValues(params []Param, v Values) string {
+	var b strings.Builder
+	for i, p := range params {
+		if i > 0 {
+			b.WriteByte(' ')
+		}
+		b.WriteString(p.Name + "=" + v[p.Name].Format(p.Kind))
+	}
+	return b.String()
+}
+
+// jobResult holds the traces of every configuration for one run.
+type jobResult struct {
+	run    int
+	traces []metrics.RunTrace
+	ess    [][]float64 // ESS buffer of each configuration's trace
+}
+
+func runProblem(s *Suite, pl *problemPlan, workers int, opt Options, done *int, total int) error {
+	nf := len(pl.filters)
+	if nf == 0 {
+		*done += s.Runs
+		if opt.Progress != nil {
+			opt.Progress(*done, total)
+		}
+		return nil
+	}
+	if workers > s.Runs {
+		workers = s.Runs
+	}
+	ws := make([]*worker, workers)
+	for i := range ws {
+		w, err := newWorker(s, pl)
+		if err != nil {
+			return err
+		}
+		ws[i] = w
+	}
+	steps, nx, nz := ws[0].prob.Steps, ws[0].prob.Model.Nx, ws[0].prob.Model.Nz
+
+	// Allocation probe: run 0 of each configuration, alone, steps only.
+	for c := range pl.filters {
+		pl.pairs[c].AllocsPerStep = ws[0].allocsPerStep(c)
+	}
+
+	accs := make([]*metrics.Accumulator, nf)
+	for c := range accs {
+		accs[c] = metrics.NewAccumulator(steps, nx, nz)
+	}
+
+	// A fixed pool of result buffers bounds memory whatever the number of runs.
+	free := make(chan *jobResult, 2*workers)
+	for i := 0; i < 2*workers; i++ {
+		jr := &jobResult{traces: make([]metrics.RunTrace, nf), ess: make([][]float64, nf)}
+		for c := range jr.traces {
+			jr.traces[c] = newTrace(steps)
+			jr.ess[c] = make([]float64, steps)
+		}
+		free <- jr
+	}
+	jobs := make(chan int)
+	results := make(chan *jobResult, 2*workers)
+	var wg sync.WaitGroup
+	for _, w := range ws {
+		wg.Add(1)
+		go func(w *worker) {
+			defer wg.Done()
+			for r := range jobs {
+				jr := <-free
+				jr.run = r
+				w.run(r, jr)
+				results <- jr
+			}
+		}(w)
+	}
+	go func() {
+		for r := 0; r < s.Runs; r++ {
+			jobs <- r
+		}
+		close(jobs)
+		wg.Wait()
+		close(results)
+	}()
+
+	// Collect in run order so every sum is formed in the same order
+	// whatever the number of workers.
+	pending := map[int]*jobResult{}
+	next := 0
+	for jr := range results {
+		pending[jr.run] = jr
+		for {
+			cur, ok := pending[next]
+			if !ok {
+				break
+			}
+			delete(pending, next)
+			for c := range cur.traces {
+				accs[c].Add(&cur.traces[c])
+				if opt.OnRun != nil {
+					opt.OnRun(pl.pairs[c], metrics.RunStatOf(&cur.traces[c]))
+				}
+			}
+			free <- cur
+			next++
+			*done++
+			if opt.Progress != nil {
+				opt.Progress(*done, total)
+			}
+		}
+	}
+	for c, p := range pl.pairs {
+		bootSeed, _ := streamSeed(s.Seed, pl.key, -1, pl.purpose[c]+" bootstrap")
+		p.Summary = accs[c].Summary(bootSeed)
+		p.Curves = accs[c].Curves()
+	}
+	return nil
+}
+
+func newTrace(steps int) metrics.RunTrace {
+	return metrics.RunTrace{
+		SqErr: make([]float64, steps),
+		NEES:  make([]float64, steps),
+		NIS:   make([]float64, steps),
+	}
+}
+
+// worker owns one copy of a problem, its filters and all buffers.
+type worker struct {
+	suite *Suite
+	plan  *problemPlan
+	prob  *datasets.Problem
+	flts  []filters.Filter
+	seq   datasets.Sequence
+
+	dataPCG, fltPCG   rand.PCG
+	dataRand, fltRand *rand.Rand
+
+	// per-step estimates of the configuration being run
+	xs, ps, nus, ss []float64
+	hasInn          []bool
+	ess             []float64
+	err, work       []float64 // state error and normalisation workspace
+	step            int       // step being run, for panic reports
+	stepErr         error     // why filterSteps stopped early
+}
+
+func newWorker(s *Suite, pl *problemPlan) (*worker, error) {
+	prob, err := pl.cfg.Spec.Build(pl.cfg.Values)
+	if err != nil {
+		return nil, fmt.Errorf("%w: problem %s: %v", ErrRunFailed, pl.cfg.Spec.Name, err)
+	}
+	w := &worker{suite: s, plan: pl, prob: prob}
+	w.dataRand = rand.New(&w.dataPCG)
+	w.fltRand = rand.New(&w.fltPCG)
+	for _, fc := range pl.filters {
+		f, err := fc.Spec.New(&prob.Model, fc.Values)
+		if err != nil {
+			return nil, fmt.Errorf("%w: filter %s: %v", ErrRunFailed, fc.Spec.Name, err)
+		}
+		w.flts = append(w.flts, f)
+	}
+	k, nx, nz := prob.Steps, prob.Model.Nx, prob.Model.Nz
+	w.xs = make([]float64, k*nx)
+	w.ps = make([]float64, k*nx*nx)
+	w.nus = make([]float64, k*nz)
+	w.ss = make([]float64, k*nz*nz)
+	w.hasInn = make([]bool, k)
+	w.ess = make([]float64, k)
+	w.err = make([]float64, nx)
+	n := max(nx, nz)
+	w.work = make([]float64, n*n+n)
+	return w, nil
+}
+
+// run computes run r of every configuration into jr.
+func (w *worker) run(r int, jr *jobResult) {
+	stream(&w.dataPCG, w.suite.Seed, w.plan.key, r, "data")
+	w.prob.Run(&w.seq, w.dataRand)
+	for c := range w.flts {
+		w.runFilter(c, r, &jr.traces[c], jr.ess[c])
+	}
+}
+
+// allocsPerStep measures the heap allocations per step of configuration c
+// on run 0, after set-up. Call it while no other run is in progress.
+func (w *worker) allocsPerStep(c int) float64 {
+	stream(&w.dataPCG, w.suite.Seed, w.plan.key, 0, "data")
+	w.prob.Run(&w.seq, w.dataRand)
+	stream(&w.fltPCG, w.suite.Seed, w.plan.key, 0, w.plan.purpose[c])
+	f := w.flts[c]
+	if err := f.Reset(w.prob.X0, w.prob.P0, w.fltRand); err != nil {
+		return math.NaN()
+	}
+	var before, after runtime.MemStats
+	runtime.ReadMemStats(&before)
+	k := w.filterSteps(f)
+	runtime.ReadMemStats(&after)
+	if k == 0 {
+		return math.NaN()
+	}
+	return float64(after.Mallocs-before.Mallocs) / float64(k)
+}
+
+// runFilter runs configuration c on the current sequence and scores it.
+// It is the one place where a filter's panic is recovered: the run is then
+// recorded as diverged at the step that panicked, with the reason.
+func (w *worker) runFilter(c, r int, tr *metrics.RunTrace, ess []float64) {
+	tr.Run = r
+	tr.Diverged, tr.DivStep, tr.Reason = false, 0, ""
+	tr.NsPerStep = math.NaN()
+	tr.ESS = nil
+	w.step = 0
+	defer func() {
+		if v := recover(); v != nil {
+			tr.Diverged = true
+			tr.DivStep = w.step
+			tr.Reason = "panic: " + fmt.Sprint(v) + panicSite()
+		}
+	}()
+	f := w.flts[c]
+	stream(&w.fltPCG, w.suite.Seed, w.plan.key, r, w.plan.purpose[c])
+	if err := f.Reset(w.prob.X0, w.prob.P0, w.fltRand); err != nil {
+		tr.Diverged, tr.Reason = true, err.Error()
+		return
+	}
+	t0 := time.Now()
+	k := w.filterSteps(f)
+	el := time.Since(t0)
+	if k < w.prob.Steps {
+		tr.Diverged, tr.DivStep = true, k+1
+		tr.Reason = w.stepErr.Error()
+		return
+	}
+	tr.NsPerStep = float64(el.Nanoseconds()) / float64(k)
+	if _, ok := f.(filters.ESSer); ok {
+		copy(ess, w.ess)
+		tr.ESS = ess
+	}
+	w.score(tr)
+}
+
+// filterSteps runs the filter over the current sequence, keeping every
+// step's estimate, innovation and ESS, and returns the steps completed.
+// Only filter work happens here: it is what ns_per_step and
+// allocs_per_step measure.
+func (w *worker) filterSteps(f filters.Filter) int {
+	m := &w.prob.Model
+	nx, nz := m.Nx, m.Nz
+	inn, _ := f.(filters.Innovator)
+	esser, _ := f.(filters.ESSer)
+	for k := 1; k <= w.prob.Steps; k++ {
+		w.step = k
+		if err := f.Predict(k); err != nil {
+			w.stepErr = err
+			return k - 1
+		}
+		z := w.seq.Meas(k)
+		if err := f.Update(z, k); err != nil {
+			w.stepErr = err
+			return k - 1
+		}
+		i := k - 1
+		f.EstimateTo(w.xs[i*nx:(i+1)*nx], w.ps[i*nx*nx:(i+1)*nx*nx])
+		w.hasInn[i] = z != nil && inn != nil && inn.InnovationTo(w.nus[i*nz:(i+1)*nz], w.ss[i*nz*nz:(i+1)*nz*nz])
+		if esser != nil {
+			w.ess[i] = esser.ESS()
+		}
+	}
+	return w.prob.Steps
+}
+
+// score turns the kept estimates into the trace's per-step metrics. A
+// non-finite estimate or a covariance that is not positive definite ends
+// the run as diverged at that step.
+func (w *worker) score(tr *metrics.RunTrace) {
+	m := &w.prob.Model
+	nx, nz := m.Nx, m.Nz
+	for k := 1; k <= w.prob.Steps; k++ {
+		i := k - 1
+		x := w.xs[i*nx : (i+1)*nx]
+		truth := w.seq.State(k)
+		for j := range x {
+			w.err[j] = x[j] - truth[j]
+		}
+		for _, j := range m.AngleState {
+			w.err[j] = filters.WrapAngle(w.err[j])
+		}
+		var se float64
+		for _, j := range w.prob.Scored {
+			se += w.err[j] * w.err[j]
+		}
+		if math.IsNaN(se) || math.IsInf(se, 0) {
+			tr.Diverged, tr.DivStep, tr.Reason = true, k, "estimate not finite"
+			return
+		}
+		nees, ok := metrics.Normalised(w.err, w.ps[i*nx*nx:(i+1)*nx*nx], w.work)
+		if !ok || math.IsNaN(nees) || math.IsInf(nees, 0) {
+			tr.Diverged, tr.DivStep, tr.Reason = true, k, "covariance not positive definite"
+			return
+		}
+		tr.SqErr[i] = se
+		tr.NEES[i] = nees
+		tr.NIS[i] = math.NaN()
+		if w.hasInn[i] {
+			if nis, ok := metrics.Normalised(w.nus[i*nz:(i+1)*nz], w.ss[i*nz*nz:(i+1)*nz*nz], w.work); ok {
+				tr.NIS[i] = nis
+			}
+		}
+	}
+}
+
+// panicSite names the function and line where a recovered panic started.
+func panicSite() string {
+	pc := make([]uintptr, 32)
+	n := runtime.Callers(3, pc)
+	frames := runtime.CallersFrames(pc[:n])
+	for {
+		fr, more := frames.Next()
+		if !strings.HasPrefix(fr.Function, "runtime.") && fr.Function != "" {
+			file := fr.File
+			if i := strings.LastIndex(file, "/"); i >= 0 {
+				file = file[i+1:]
+			}
+			return fmt.Sprintf(" (in %s at %s:%d)", fr.Function, file, fr.Line)
+		}
+		if !more {
+			return ""
+		}
+	}
+}
