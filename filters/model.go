@@ -41,6 +41,23 @@ type Model struct {
 	// with A and C given by FJac and HJac at any point.
 	Linear bool
 
+	// Non-additive noise. If FW is not nil the transition is
+	// x_k = FW(x_{k-1}, w_k, k) with w_k ~ N(0, Q) of dimension Nw (Q is then
+	// Nw*Nw), and F must equal FW with w = 0. Likewise HV with v_k ~ N(0, R)
+	// of dimension Nv. Filters that only support additive noise refuse such
+	// models (the runner marks the pair not applicable); filters that
+	// support them (augmented sigma-point filters, particle filters) use FW/HV.
+	Nw int
+	FW func(dst, x, w []float64, k int)
+	Nv int
+	HV func(dst, x, v []float64, k int)
+
+	// MeasLogLik, if not nil, is the exact log-density log p(z | x) of a
+	// measurement whose noise is not Gaussian (up to a constant). Particle
+	// filters use it instead of the Gaussian density with R; Gaussian filters
+	// keep using R as the moment-matched covariance.
+	MeasLogLik func(z, x []float64, k int) float64
+
 	// AngleMeas lists measurement components that are angles in radians:
 	// innovations of these components are wrapped to (-pi, pi].
 	AngleMeas []int
@@ -77,6 +94,9 @@ type ESSer interface {
 	ESS() float64
 }
 
+// Additive reports whether both noises enter additively.
+func (m *Model) Additive() bool { return m.FW == nil && m.HV == nil }
+
 // Numerical failures. They are values so a step never allocates to report one.
 var (
 	ErrNotPosDef   = errors.New("filters: covariance not positive definite")
@@ -88,7 +108,14 @@ func (m *Model) check() {
 	if m.Nx <= 0 || m.Nz <= 0 || m.F == nil || m.H == nil {
 		panic("filters: model needs Nx, Nz > 0, F and H")
 	}
-	if len(m.Q) != m.Nx*m.Nx || len(m.R) != m.Nz*m.Nz {
+	nw, nv := m.Nx, m.Nz
+	if m.FW != nil {
+		nw = m.Nw
+	}
+	if m.HV != nil {
+		nv = m.Nv
+	}
+	if len(m.Q) != nw*nw || len(m.R) != nv*nv {
 		panic("filters: model Q or R has the wrong size")
 	}
 }
