@@ -10,29 +10,13 @@ import (
 	"strconv"
 	"strings"
 	"time"
-	"unicode/utf8"
 
 	"github.com/BurntSushi/toml"
 )
 
-// A suite file is TOML:
-//
-//	name = "harbour-radar"   # required
-//	seed = 7                 # uint64, default 1
-//	runs = 200               # Monte Carlo runs, default 100
-//	[[problem]]
-//	use = "ungm"             # a problem of the catalogue
-//	steps = 150              # any parameter of that problem
-//	[[filter]]
-//	use = "pf"
-//	particles = [250, 1000]  # a list sweeps: one configuration per value
-//
-// Problems sweep the same way as filters. A value left out takes the
-// parameter's default.
-
-// Limits of a suite file. maxSweep is common practice with no source: it
-// keeps a typo such as a 10⁴-element list from becoming a suite that runs
-// for days, and keeps parsing hostile input cheap.
+// Defaults and limits of a suite file. maxSweep is our own limit (common
+// practice, no source): a sweep larger than it is more likely a slip than a
+// plan, and the limit keeps parsing hostile input cheap.
 const (
 	defaultSuiteSeed = 1
 	defaultSuiteRuns = 100
@@ -99,10 +83,28 @@ func (e *SuiteError) Error() string {
 }
 
 // ParseSuite reads the suite file data against the catalogue cat. file is
-// the path used in messages. Every error it returns is a *SuiteError; the
-// error is the first mistake in file order, except that a table's use key
-// is checked before its other keys, whose meaning depends on it, and that
-// missing keys are reported after everything else.
+// the path used in messages. A suite file is TOML:
+//
+//	name = "harbour-radar"   # required
+//	seed = 7                 # uint64, default 1
+//	runs = 200               # Monte Carlo runs, default 100
+//	[[problem]]
+//	use = "ungm"             # a problem of the catalogue
+//	steps = 150              # any parameter of that problem
+//	[[filter]]
+//	use = "pf"
+//	particles = [250, 1000]  # a list sweeps: one configuration per value
+//
+// Problems sweep the same way as filters; a parameter left out takes its
+// default. Int parameters take TOML integers only (500.0 is refused), Float
+// parameters integers or finite floats (-0 reads as 0), String parameters
+// strings. The same configuration twice is refused, naming both lines.
+//
+// Every error ParseSuite returns is a *SuiteError. It is the first mistake
+// in file order, except that a table's use key is checked before its other
+// keys, whose meaning depends on it, and that missing keys are reported after
+// everything else. A mistake inside a list that spans lines is reported at
+// the line of its key.
 func ParseSuite(file string, data []byte, cat *Catalogue) (*Suite, error) {
 	if cat == nil {
 		panic("bench: ParseSuite: nil catalogue")
@@ -631,9 +633,7 @@ func quoteTOML(s string) string {
 			b.WriteRune(r)
 		case r < 0x20 || r == 0x7f:
 			fmt.Fprintf(&b, `\u%04X`, r)
-		case r == utf8.RuneError:
-			b.WriteRune(utf8.RuneError)
-		default:
+		default: // ranging over s gives utf8.RuneError for an invalid byte
 			b.WriteRune(r)
 		}
 	}
@@ -676,6 +676,9 @@ func suiteKeyOrder(md toml.MetaData, raw map[string]any) suiteOrder {
 			isTables := name == "problem" || name == "filter"
 			switch typ := md.Type(name); {
 			case isTables && typ == "ArrayHash":
+				if list, ok := raw[name].([]map[string]any); !ok || n >= len(list) {
+					continue // not expected from the decoder; leaves nothing to index out of range
+				}
 				cur = len(o.keys)
 				o.events = append(o.events, suiteEvent{key: name, index: n, order: cur})
 				o.keys = append(o.keys, nil)
