@@ -43,6 +43,7 @@ func NewKF(m *Model, cfg KFConfig) (*KF, error) {
 	f.c.init(m)
 	f.c.atOrigin = true
 	f.c.step = 1
+	f.c.trackLik = true
 	return f, nil
 }
 
@@ -89,21 +90,22 @@ type linCore struct {
 	wrapState bool
 
 	hasInnov bool    // the last Update had a measurement and succeeded
+	trackLik bool    // accumulate loglik (KF)
 	loglik   float64 // accumulated innovation log-likelihood since Reset
 
 	// workspace, sized at set-up, reused every step
 	a    []float64 // transition Jacobian A (nx*nx)
 	cj   []float64 // measurement Jacobian C (nz*nx)
 	fx   []float64 // F(x) (nx)
-	ap   []float64 // A P in Predict, (I-KC) P in Update (nx*nx)
+	ap   []float64 // A P in Predict, M = (I-KC) P in Update (nx*nx)
 	zhat []float64 // predicted measurement H(x) (nz)
 	nu   []float64 // innovation z - zhat, angles wrapped (nz)
 	s    []float64 // innovation covariance S = C P Cᵀ + R (nz*nz)
 	l    []float64 // lower Cholesky factor of S (nz*nz)
 	pct  []float64 // cross covariance P Cᵀ (nx*nz)
 	k    []float64 // gain K (nx*nz)
-	ikc  []float64 // I - K C, then K R Kᵀ (nx*nx)
-	kr   []float64 // K R (nx*nz)
+	tmp  []float64 // K (P Cᵀ)ᵀ, then (K R - M Cᵀ) Kᵀ (nx*nx)
+	kr   []float64 // M Cᵀ, then K R - M Cᵀ (nx*nz)
 	w    []float64 // L⁻¹ ν for the likelihood (nz)
 	xt   []float64 // perturbed point for differences (nx)
 	dp   []float64 // function value at x + h (max(nx,nz))
@@ -125,7 +127,7 @@ func (c *linCore) init(m *Model) {
 	c.l = make([]float64, nz*nz)
 	c.pct = make([]float64, nx*nz)
 	c.k = make([]float64, nx*nz)
-	c.ikc = make([]float64, nx*nx)
+	c.tmp = make([]float64, nx*nx)
 	c.kr = make([]float64, nx*nz)
 	c.w = make([]float64, nz)
 	c.xt = make([]float64, nx)
@@ -139,6 +141,7 @@ func (c *linCore) reset(x0, p0 []float64) error {
 	}
 	copy(c.x, x0)
 	copy(c.p, p0)
+	symmetrize(c.p, c.nx) // the steps rely on an exactly symmetric P
 	c.hasInnov = false
 	c.loglik = 0
 	if !allFinite(c.x) || !allFinite(c.p) {
@@ -162,8 +165,9 @@ func (c *linCore) predict(k int) error {
 			c.x[i] = wrapAngle(c.x[i])
 		}
 	}
-	mul(c.ap, c.a, c.p, nx, nx, nx)
-	mulABt(c.p, c.ap, c.a, nx, nx, nx)
+	// A P = A Pᵀ (P is kept exactly symmetric), then (A P) Aᵀ.
+	abt(c.ap, c.a, c.p, nx, nx, nx, false)
+	abt(c.p, c.ap, c.a, nx, nx, nx, true)
 	for i, q := range c.m.Q {
 		c.p[i] += q
 	}
@@ -197,7 +201,7 @@ func (c *linCore) update(z []float64, k int) error {
 	}
 
 	// S = C P Cᵀ + R, K = P Cᵀ S⁻¹ by Cholesky.
-	mulABt(c.pct, c.p, c.cj, nx, nx, nz)
+	abt(c.pct, c.p, c.cj, nx, nx, nz, false)
 	mul(c.s, c.cj, c.pct, nz, nx, nz)
 	for i, r := range c.m.R {
 		c.s[i] += r
@@ -224,24 +228,49 @@ func (c *linCore) update(z []float64, k int) error {
 		}
 	}
 
-	// Joseph form: P = (I-KC) P (I-KC)ᵀ + K R Kᵀ.
-	mul(c.ikc, c.k, c.cj, nx, nz, nx)
-	for i := range c.ikc {
-		c.ikc[i] = -c.ikc[i]
+	// Joseph form P = (I-KC) P (I-KC)ᵀ + K R Kᵀ, evaluated without forming
+	// I-KC: with M = (I-KC) P = P - K (P Cᵀ)ᵀ,
+	// P = M - (M Cᵀ) Kᵀ + (K R) Kᵀ = M + (K R - M Cᵀ) Kᵀ,
+	// of which only the upper triangle is computed and then mirrored.
+	abt(c.tmp, c.k, c.pct, nx, nz, nx, false)
+	for i, v := range c.tmp {
+		c.ap[i] = c.p[i] - v // M
 	}
+	abt(c.kr, c.ap, c.cj, nx, nx, nz, false) // M Cᵀ
 	for i := 0; i < nx; i++ {
-		c.ikc[i*nx+i] += 1
+		ki := c.k[i*nz : i*nz+nz]
+		gi := c.kr[i*nz : i*nz+nz]
+		for j := 0; j < nz; j++ {
+			var s float64
+			for l, kv := range ki {
+				s += kv * c.m.R[l*nz+j]
+			}
+			gi[j] = s - gi[j] // (K R - M Cᵀ)
+		}
 	}
-	mul(c.ap, c.ikc, c.p, nx, nx, nx)
-	mulABt(c.p, c.ap, c.ikc, nx, nx, nx)
-	mul(c.kr, c.k, c.m.R, nx, nz, nz)
-	mulABt(c.ikc, c.kr, c.k, nx, nz, nx)
-	for i, v := range c.ikc {
-		c.p[i] += v
+	abt(c.tmp, c.kr, c.k, nx, nz, nx, true)
+	for i := 0; i < nx; i++ {
+		for j := i; j < nx; j++ {
+			v := c.ap[i*nx+j] + c.tmp[i*nx+j]
+			c.p[i*nx+j] = v
+			c.p[j*nx+i] = v
+		}
 	}
-	symmetrize(c.p, nx)
 
-	// log-likelihood term −½(nz log 2π + log det S + |L⁻¹ν|²)
+	if c.trackLik {
+		c.addLogLik()
+	}
+	if !allFinite(c.x) || !allFinite(c.p) {
+		return ErrNonFinite
+	}
+	c.hasInnov = true
+	return nil
+}
+
+// addLogLik adds the log-likelihood term −½(nz log 2π + log det S + |L⁻¹ν|²)
+// of the current innovation.
+func (c *linCore) addLogLik() {
+	nz := c.nz
 	copy(c.w, c.nu)
 	forwardSolve(c.l, c.w, nz)
 	var quad, logdet float64
@@ -250,12 +279,62 @@ func (c *linCore) update(z []float64, k int) error {
 		logdet += 2 * math.Log(c.l[i*nz+i])
 	}
 	c.loglik -= 0.5 * (float64(nz)*math.Log(2*math.Pi) + logdet + quad)
+}
 
-	if !allFinite(c.x) || !allFinite(c.p) {
-		return ErrNonFinite
+// abt sets dst (m x n) = a bᵀ for a (m x k) and b (n x k): every entry is
+// a dot product of two rows. If sym, the product is known to be symmetric
+// (m == n): only the upper triangle is computed, then mirrored. Columns are
+// taken four at a time with independent sums, so the additions do not
+// wait on one another; this is where the small filters spend their time.
+// dst must not alias a or b.
+func abt(dst, a, b []float64, m, k, n int, sym bool) {
+	for i := 0; i < m; i++ {
+		ai := a[i*k : i*k+k]
+		row := dst[i*n : i*n+n]
+		j := 0
+		if sym {
+			j = i
+		}
+		for ; j+4 <= n; j += 4 {
+			b0 := b[j*k:][:len(ai)] // [:len(ai)] lets the compiler drop bounds checks
+			b1 := b[(j+1)*k:][:len(ai)]
+			b2 := b[(j+2)*k:][:len(ai)]
+			b3 := b[(j+3)*k:][:len(ai)]
+			var s0, s1, s2, s3 float64
+			for l, av := range ai {
+				s0 += av * b0[l]
+				s1 += av * b1[l]
+				s2 += av * b2[l]
+				s3 += av * b3[l]
+			}
+			row[j], row[j+1], row[j+2], row[j+3] = s0, s1, s2, s3
+		}
+		for ; j+2 <= n; j += 2 {
+			b0 := b[j*k:][:len(ai)] // [:len(ai)] lets the compiler drop bounds checks
+			b1 := b[(j+1)*k:][:len(ai)]
+			var s0, s1 float64
+			for l, av := range ai {
+				s0 += av * b0[l]
+				s1 += av * b1[l]
+			}
+			row[j], row[j+1] = s0, s1
+		}
+		for ; j < n; j++ {
+			bj := b[j*k:][:len(ai)]
+			var s float64
+			for l, av := range ai {
+				s += av * bj[l]
+			}
+			row[j] = s
+		}
 	}
-	c.hasInnov = true
-	return nil
+	if sym {
+		for i := 0; i < n; i++ {
+			for j := i + 1; j < n; j++ {
+				dst[j*n+i] = dst[i*n+j]
+			}
+		}
+	}
 }
 
 // diffJac writes the central-difference Jacobian of g (ny outputs) into

@@ -79,9 +79,8 @@ func (w *sigmaWeights) mean(dst, y []float64, m int, angles []int) {
 		// accuracy when Wm₀ is large and negative.
 		var ss, sh float64
 		for i := 1; i <= 2*n; i++ {
-			d := y[i*m+j] - y0[j]
-			ss += math.Sin(d)
-			h := math.Sin(d / 2)
+			h, c := math.Sincos((y[i*m+j] - y0[j]) / 2)
+			ss += 2 * h * c // sin d
 			sh += h * h
 		}
 		dst[j] = wrapAngle(y0[j] + math.Atan2(w.wi*ss, 1-2*w.wi*sh))
