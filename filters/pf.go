@@ -1,0 +1,756 @@
+package filters
+
+import (
+	"errors"
+	"math"
+	"math/rand/v2"
+)
+
+// PFConfig configures NewPF. The zero value gives the defaults.
+type PFConfig struct {
+	// Particles is the number of particles N. If zero, 1000 is used.
+	Particles int
+	// ResampleThreshold sets when to resample: after an update whose
+	// effective sample size is below ResampleThreshold*N. It lies in
+	// (0, 1]; if zero, 1.0 is used, which resamples after every update
+	// whose weights are not all equal.
+	ResampleThreshold float64
+}
+
+// Defaults used when PFConfig fields are zero.
+const (
+	DefaultPFParticles         = 1000
+	DefaultPFResampleThreshold = 1.0
+)
+
+// PF is the bootstrap particle filter of Gordon, Salmond & Smith 1993
+// ("Novel approach to nonlinear/non-Gaussian Bayesian state estimation",
+// IEE Proc. F 140(2)): particles are propagated through the transition with
+// sampled process noise (the prior as proposal), weighted by the Gaussian
+// measurement likelihood, and resampled by systematic resampling (Kitagawa
+// 1996, "Monte Carlo filter and smoother for non-Gaussian nonlinear state
+// space models", JCGS 5(1); Douc, Cappé & Moulines 2005, "Comparison of
+// resampling schemes for particle filtering", ISPA) when the effective
+// sample size 1/Σw² falls below ResampleThreshold·N.
+//
+// Reset draws the N particles from N(x0, p0). p0 may be positive
+// semi-definite: a component with zero variance (up to a relative 1e-12 of
+// the largest variance) starts exactly at x0; ErrNotPosDef is returned if p0
+// is not positive semi-definite. Q is treated the same way (zero-variance
+// components get no noise). R must be positive definite.
+//
+// Weights are kept as logarithms and normalised by log-sum-exp. The
+// estimate is the weighted mean and covariance of the particles, taken after
+// the weights of an update and before resampling; Model.AngleState
+// components use the circular mean atan2(Σw sin, Σw cos) and wrapped
+// residuals. A particle whose log-weight is NaN (a NaN measurement
+// function value) gets weight zero; if no particle has a positive weight,
+// Update returns ErrWeightsZero, and if the estimate is not finite,
+// ErrNonFinite. After either error the filter must be Reset.
+//
+// The innovation is nu = z - zhat, with zhat the weighted mean of the
+// predicted particle measurements H(x_i) under the weights before the
+// update, and S their weighted covariance plus R.
+//
+// PF implements Filter, Innovator and ESSer. It calls Model.FMany and
+// Model.HMany, when set, once per step for all particles (stored one after
+// another), and F and H per particle otherwise. All randomness comes from
+// the stream passed to Reset: NormFloat64 for the noise and one Float64 per
+// resampling.
+type PF struct {
+	m      *Model
+	n      int     // particles
+	thresh float64 // resample when ess < thresh*n
+	scalar bool    // Nx == Nz == 1 and no angles: scalar fast paths
+
+	lq    []float64 // PSD lower factor of Q, Nx*Nx
+	lr    []float64 // lower Cholesky factor of R, Nz*Nz
+	sqQ   float64   // sqrt(Q) when scalar
+	halfR float64   // -1/(2R) when scalar
+
+	rng *rand.Rand // stream of the current run
+
+	// particle state
+	x   []float64 // particles, n*Nx, particle i at x[i*Nx:]
+	alt []float64 // second particle buffer (transition output, resampling destination)
+	lw  []float64 // log-weights, n, normalised after an update; unused if eq
+	w   []float64 // normalised weights, n; unused if eq
+	eq  bool      // all weights are 1/n (after Reset and resampling)
+
+	// results
+	mean, cov []float64 // estimate, Nx and Nx*Nx
+	estOK     bool      // mean and cov describe the current particles
+	ess       float64   // ESS at the last update, before resampling
+	nu, s     []float64 // innovation of the last update, Nz and Nz*Nz
+	haveInnov bool      // nu and s are set
+	resamples int       // resampling events since Reset (tests)
+
+	// workspace, sized in NewPF, reused every step
+	zh  []float64 // predicted measurements H(x_i), n*Nz
+	idx []int32   // resampling: parent starting at each position, n+1
+	zm  []float64 // weighted mean of zh, Nz
+	r   []float64 // one residual, max(Nx, Nz)
+	e   []float64 // one standard normal draw, Nx
+	l0  []float64 // PSD lower factor of p0, Nx*Nx
+	sum []float64 // sin/cos sums for circular means, 2*max(Nx, Nz)
+}
+
+// NewPF returns a bootstrap particle filter for m. It returns ErrNotPosDef
+// if Q is not positive semi-definite or R is not positive definite.
+func NewPF(m *Model, cfg PFConfig) (*PF, error) {
+	m.check()
+	n := cfg.Particles
+	if n == 0 {
+		n = DefaultPFParticles
+	}
+	if n < 1 || n > math.MaxInt32-1 {
+		return nil, errors.New("filters: pf: Particles must be in [1, 2^31-2]")
+	}
+	th := cfg.ResampleThreshold
+	if th == 0 {
+		th = DefaultPFResampleThreshold
+	}
+	if !(th > 0 && th <= 1) {
+		return nil, errors.New("filters: pf: ResampleThreshold must be in (0, 1]")
+	}
+	nx, nz := m.Nx, m.Nz
+	nm := max(nx, nz)
+	f := &PF{
+		m:      m,
+		n:      n,
+		thresh: th,
+		scalar: nx == 1 && nz == 1 && len(m.AngleState) == 0 && len(m.AngleMeas) == 0,
+		lq:     make([]float64, nx*nx),
+		lr:     make([]float64, nz*nz),
+		x:      make([]float64, n*nx),
+		alt:    make([]float64, n*nx),
+		lw:     make([]float64, n),
+		w:      make([]float64, n),
+		mean:   make([]float64, nx),
+		cov:    make([]float64, nx*nx),
+		nu:     make([]float64, nz),
+		s:      make([]float64, nz*nz),
+		zh:     make([]float64, n*nz),
+		idx:    make([]int32, n+1),
+		zm:     make([]float64, nz),
+		r:      make([]float64, nm),
+		e:      make([]float64, nx),
+		l0:     make([]float64, nx*nx),
+		sum:    make([]float64, 2*nm),
+	}
+	if !psdFactor(f.lq, m.Q, nx) || !cholesky(f.lr, m.R, nz) {
+		return nil, ErrNotPosDef
+	}
+	f.sqQ = f.lq[0]
+	f.halfR = -0.5 / m.R[0]
+	return f, nil
+}
+
+// Reset draws the particles from N(x0, p0) and sets equal weights.
+func (f *PF) Reset(x0, p0 []float64, rng *rand.Rand) error {
+	nx := f.m.Nx
+	if len(x0) != nx || len(p0) != nx*nx {
+		panic("filters: pf: dimension mismatch")
+	}
+	if rng == nil {
+		panic("filters: pf: Reset needs a random stream")
+	}
+	f.rng = rng
+	f.estOK, f.haveInnov, f.resamples = false, false, 0
+	f.ess = float64(f.n)
+	if !allFinite(x0) {
+		return ErrNonFinite
+	}
+	if !psdFactor(f.l0, p0, nx) {
+		return ErrNotPosDef
+	}
+	for i := 0; i < f.n; i++ {
+		xi := f.x[i*nx : i*nx+nx]
+		copy(xi, x0)
+		f.addNoise(xi, f.l0)
+	}
+	f.eq = true
+	return nil
+}
+
+// addNoise adds l e to v, with e a fresh standard normal vector and l a
+// lower triangular factor (Nx*Nx).
+func (f *PF) addNoise(v, l []float64) {
+	nx := len(v)
+	e := f.e
+	for j := range e {
+		e[j] = f.rng.NormFloat64()
+	}
+	for i := 0; i < nx; i++ {
+		li := l[i*nx : i*nx+i+1]
+		var s float64
+		for j, lv := range li {
+			s += lv * e[j]
+		}
+		v[i] += s
+	}
+}
+
+// Predict propagates every particle to step k and adds process noise.
+func (f *PF) Predict(k int) error {
+	m := f.m
+	nx := m.Nx
+	// Transition into alt, then swap so x holds the propagated particles.
+	if m.FMany != nil {
+		m.FMany(f.alt, f.x, k)
+	} else {
+		for i := 0; i < f.n; i++ {
+			m.F(f.alt[i*nx:i*nx+nx], f.x[i*nx:i*nx+nx], k)
+		}
+	}
+	f.x, f.alt = f.alt, f.x
+	f.haveInnov = false
+	if f.scalar {
+		sq, rng := f.sqQ, f.rng
+		x := f.x
+		for i := range x {
+			x[i] += sq * rng.NormFloat64()
+		}
+	} else {
+		for i := 0; i < f.n; i++ {
+			f.addNoise(f.x[i*nx:i*nx+nx], f.lq)
+		}
+	}
+	f.estOK = false
+	return nil
+}
+
+// Update weights the particles by the likelihood of z, takes the estimate
+// and resamples if the effective sample size is low. z == nil leaves the
+// weights unchanged; the estimate is then that of the predicted particles.
+func (f *PF) Update(z []float64, k int) error {
+	f.haveInnov = false
+	if z == nil {
+		f.estimate()
+		return f.checkEstimate()
+	}
+	m := f.m
+	nx, nz := m.Nx, m.Nz
+	if len(z) != nz {
+		panic("filters: pf: dimension mismatch")
+	}
+	if m.HMany != nil {
+		m.HMany(f.zh, f.x, k)
+	} else {
+		for i := 0; i < f.n; i++ {
+			m.H(f.zh[i*nz:i*nz+nz], f.x[i*nx:i*nx+nx], k)
+		}
+	}
+	var mx float64
+	if f.scalar {
+		mx = f.logLikScalar(z[0])
+	} else {
+		f.innovation(z)
+		mx = f.logLik(z)
+	}
+	if mx != mx {
+		mx = f.dropNaN()
+	}
+	if !(mx > math.Inf(-1)) {
+		return ErrWeightsZero
+	}
+
+	// Weights exp(lw - mx): the largest is 1, so sum >= 1.
+	var sum, sum2, sx float64
+	if f.scalar {
+		sum, sum2, sx = expShiftDot(f.w, f.lw, f.x, mx)
+	} else {
+		sum, sum2 = expShift(f.w, f.lw, mx)
+	}
+	f.eq = false
+	f.ess = sum * sum / sum2
+	resample := f.ess < f.thresh*float64(f.n)
+	inv := 1 / sum
+	if f.scalar {
+		// Moments from the unnormalised weights: the mean from the
+		// exponential pass, the variance in a second pass.
+		mean := sx * inv
+		var c float64
+		w := f.w[:len(f.x)]
+		for i, x := range f.x {
+			r := x - mean
+			c += w[i] * r * r
+		}
+		f.mean[0], f.cov[0] = mean, c*inv
+		f.estOK = true
+	} else {
+		for i := range f.w {
+			f.w[i] *= inv
+		}
+		inv = 1
+		f.estimate()
+	}
+	if err := f.checkEstimate(); err != nil {
+		return err
+	}
+
+	f.haveInnov = true
+	if resample {
+		systematicResample(f.alt, f.x, f.w, f.idx, nx, float64(f.n)*inv, 1-f.rng.Float64())
+		f.x, f.alt = f.alt, f.x
+		f.eq = true
+		f.resamples++
+		return nil
+	}
+	// Keep normalised weights and log-weights, so they cannot drift.
+	if f.scalar {
+		for i := range f.w {
+			f.w[i] *= inv
+		}
+	}
+	shift := mx + math.Log(sum)
+	for i := range f.lw {
+		f.lw[i] -= shift
+	}
+	return nil
+}
+
+// logLikScalar adds the log-likelihood -(z-h_i)²/(2R) of each particle to
+// its log-weight (or sets it if the weights are equal) and returns the
+// largest log-weight, NaN if any is NaN. In the same pass it takes the
+// innovation from d_i = z - h_i: nu = Σw d, S = Σw d² - nu² + R, which is
+// the weighted variance of h_i plus R written about z (it loses relative
+// precision only about eps·(1 + nu²/S)).
+func (f *PF) logLikScalar(z float64) float64 {
+	c := f.halfR
+	lw := f.lw
+	zh := f.zh[:len(lw)]
+	mx := math.Inf(-1)
+	var sd, sd2 float64
+	if f.eq {
+		for i, h := range zh {
+			d := z - h
+			d2 := d * d
+			v := c * d2
+			lw[i] = v
+			mx = max(mx, v)
+			sd += d
+			sd2 += d2
+		}
+		u := 1 / float64(len(lw))
+		sd, sd2 = sd*u, sd2*u
+	} else {
+		w := f.w[:len(lw)]
+		for i, h := range zh {
+			d := z - h
+			d2 := d * d
+			v := lw[i] + c*d2
+			lw[i] = v
+			mx = max(mx, v)
+			sd += w[i] * d
+			sd2 += w[i] * d2
+		}
+	}
+	f.nu[0] = sd
+	f.zm[0] = z - sd
+	f.s[0] = max(sd2-sd*sd, 0) + f.m.R[0]
+	return mx
+}
+
+// innovation sets zm, nu and s from the predicted measurements under the
+// prior weights.
+func (f *PF) innovation(z []float64) {
+	m := f.m
+	weightedMoments(f.zm, f.s, f.zh, f.weights(), m.Nz, m.AngleMeas, f.sum)
+	for i, rv := range m.R {
+		f.s[i] += rv
+	}
+	for j := range f.nu {
+		f.nu[j] = z[j] - f.zm[j]
+	}
+	for _, j := range m.AngleMeas {
+		f.nu[j] = wrapAngle(f.nu[j])
+	}
+}
+
+// logLik adds the Gaussian log-likelihood -|L⁻¹(z-h_i)|²/2 of each
+// particle to its log-weight (or sets it if the weights are equal), with
+// L the Cholesky factor of R and angle residuals wrapped, and returns the
+// largest log-weight, NaN if any is NaN.
+func (f *PF) logLik(z []float64) float64 {
+	m := f.m
+	nz := m.Nz
+	r := f.r[:nz]
+	mx := math.Inf(-1)
+	for i := range f.lw {
+		zi := f.zh[i*nz : i*nz+nz]
+		for j := range r {
+			r[j] = z[j] - zi[j]
+		}
+		for _, j := range m.AngleMeas {
+			r[j] = wrapAngle(r[j])
+		}
+		forwardSolve(f.lr, r, nz)
+		var q float64
+		for _, v := range r {
+			q += v * v
+		}
+		v := -0.5 * q
+		if !f.eq {
+			v += f.lw[i]
+		}
+		f.lw[i] = v
+		mx = max(mx, v)
+	}
+	return mx
+}
+
+// dropNaN gives NaN log-weights weight zero and returns the largest
+// remaining log-weight (-Inf if none). It is the rare path.
+func (f *PF) dropNaN() float64 {
+	mx := math.Inf(-1)
+	for i, v := range f.lw {
+		if v != v {
+			f.lw[i] = math.Inf(-1)
+			continue
+		}
+		mx = max(mx, v)
+	}
+	return mx
+}
+
+func (f *PF) checkEstimate() error {
+	if !allFinite(f.mean) || !allFinite(f.cov) {
+		return ErrNonFinite
+	}
+	return nil
+}
+
+// The weights exp(lw_i - mx) are computed by an inline exponential for
+// arguments x <= 0 (or NaN, giving NaN) with no branch. Results below 2^-500
+// (about 3e-151; x below about -346.57) are zero: relative to the largest weight 1
+// the mass dropped is below float64 resolution for any feasible N, and it
+// keeps every weight and squared weight a normal float64 (subnormal
+// arithmetic is slow). The reduction is x = (64e + j)·ln2/64 + r with
+// |r| <= ln2/128 and exp(x) = 2^e · 2^(j/64) · p(r), p the degree-5 Taylor
+// polynomial of exp (truncation below 4e-17 relative), the table-driven
+// method of Tang 1989, "Table-driven implementation of the exponential
+// function in IEEE floating-point arithmetic", ACM TOMS 15(2). The loop body
+// is repeated in expShift and expShiftDot because the compiler does not
+// inline a function of its size.
+const (
+	expMagic = 0x1.8p52              // adding it rounds to an integer
+	expInv   = 64 / math.Ln2         // 64/ln2
+	expLn2Hi = 0x1.62e42fefa0000p-7  // ln2/64, high 37 bits (k·hi is exact)
+	expLn2Lo = 0x1.cf79abc9e3b3ap-46 // ln2/64 - expLn2Hi
+	expFloor = -360.0                // clamp: keeps k small, maps -Inf
+	expECut  = -500                  // 2^e below 2^-500 gives zero
+)
+
+// expTab holds 2^(j/64), j = 0..63.
+var expTab = func() (t [64]float64) {
+	for j := range t {
+		t[j] = math.Exp2(float64(j) / 64)
+	}
+	return t
+}()
+
+// expShift sets w[i] = exp(lw[i] - mx) (lw[i] <= mx) and returns Σw and Σw².
+func expShift(w, lw []float64, mx float64) (sum, sum2 float64) {
+	w = w[:len(lw)]
+	for i, v := range lw {
+		x := max(v-mx, expFloor) // NaN stays NaN
+		t := x*expInv + expMagic
+		kd := t - expMagic
+		k := int64(math.Float64bits(t)) - int64(math.Float64bits(expMagic))
+		r := x - kd*expLn2Hi - kd*expLn2Lo
+		r2 := r * r
+		p := (1 + r) + r2*((0.5+r*(1.0/6))+r2*(1.0/24+r*(1.0/120)))
+		e := k >> 6
+		b := uint64(e+1023) << 52
+		if e < expECut {
+			b = 0
+		}
+		y := p * expTab[k&63] * math.Float64frombits(b)
+		w[i] = y
+		sum += y
+		sum2 += y * y
+	}
+	return sum, sum2
+}
+
+// expShiftDot is expShift that also returns Σ w[i] x[i].
+func expShiftDot(w, lw, xs []float64, mx float64) (sum, sum2, sx float64) {
+	w = w[:len(lw)]
+	xs = xs[:len(lw)]
+	for i, v := range lw {
+		x := max(v-mx, expFloor) // NaN stays NaN
+		t := x*expInv + expMagic
+		kd := t - expMagic
+		k := int64(math.Float64bits(t)) - int64(math.Float64bits(expMagic))
+		r := x - kd*expLn2Hi - kd*expLn2Lo
+		r2 := r * r
+		p := (1 + r) + r2*((0.5+r*(1.0/6))+r2*(1.0/24+r*(1.0/120)))
+		e := k >> 6
+		b := uint64(e+1023) << 52
+		if e < expECut {
+			b = 0
+		}
+		y := p * expTab[k&63] * math.Float64frombits(b)
+		w[i] = y
+		sum += y
+		sum2 += y * y
+		sx += y * xs[i]
+	}
+	return sum, sum2, sx
+}
+
+// estimate sets mean and cov to the weighted moments of the particles.
+func (f *PF) estimate() {
+	weightedMoments(f.mean, f.cov, f.x, f.weights(), f.m.Nx, f.m.AngleState, f.sum)
+	f.estOK = true
+}
+
+// weights returns the normalised weights, or nil if they are all equal.
+func (f *PF) weights() []float64 {
+	if f.eq {
+		return nil
+	}
+	return f.w
+}
+
+// EstimateTo copies the weighted particle mean into x and, if p is not nil,
+// the weighted particle covariance into p.
+func (f *PF) EstimateTo(x, p []float64) {
+	nx := f.m.Nx
+	if len(x) != nx || (p != nil && len(p) != nx*nx) {
+		panic("filters: pf: dimension mismatch")
+	}
+	if !f.estOK {
+		f.estimate()
+	}
+	copy(x, f.mean)
+	if p != nil {
+		copy(p, f.cov)
+	}
+}
+
+// InnovationTo copies the innovation of the last Update and, if s is not
+// nil, its covariance. It reports false after Reset or Predict until an
+// Update with a measurement succeeds.
+func (f *PF) InnovationTo(nu, s []float64) bool {
+	nz := f.m.Nz
+	if len(nu) != nz || (s != nil && len(s) != nz*nz) {
+		panic("filters: pf: dimension mismatch")
+	}
+	if !f.haveInnov {
+		return false
+	}
+	copy(nu, f.nu)
+	if s != nil {
+		copy(s, f.s)
+	}
+	return true
+}
+
+// ESS returns the effective sample size 1/Σw² of the weights at the last
+// update, before resampling (N before the first update).
+func (f *PF) ESS() float64 { return f.ess }
+
+// weightedMoments sets mean (d) and cov (d*d) to the moments of the
+// n = len(v)/d points v (point i at v[i*d:]) under the normalised weights w,
+// or equal weights 1/n if w is nil. The components listed in angles get the
+// circular mean and wrapped residuals. sc is workspace of at least 2*d.
+func weightedMoments(mean, cov, v, w []float64, d int, angles []int, sc []float64) {
+	n := len(v) / d
+	if d == 1 && len(angles) == 0 {
+		var m, c float64
+		if w == nil {
+			for _, x := range v {
+				m += x
+			}
+			m /= float64(n)
+			for _, x := range v {
+				r := x - m
+				c += r * r
+			}
+			c /= float64(n)
+		} else {
+			w = w[:len(v)]
+			for i, x := range v {
+				m += w[i] * x
+			}
+			for i, x := range v {
+				r := x - m
+				c += w[i] * r * r
+			}
+		}
+		mean[0], cov[0] = m, c
+		return
+	}
+	for j := range mean {
+		mean[j] = 0
+	}
+	sn, cs := sc[:d], sc[d:2*d]
+	for _, j := range angles {
+		sn[j], cs[j] = 0, 0
+	}
+	// Equal weights: sums divided by n, so that equal points give their
+	// value exactly.
+	wu := 1.0
+	if w != nil {
+		wu = 0
+	}
+	for i := 0; i < n; i++ {
+		wi := wu
+		if w != nil {
+			wi = w[i]
+		}
+		vi := v[i*d : i*d+d]
+		for j, x := range vi {
+			mean[j] += wi * x
+		}
+		for _, j := range angles {
+			s, c := math.Sincos(vi[j])
+			sn[j] += wi * s
+			cs[j] += wi * c
+		}
+	}
+	if w == nil {
+		for j := range mean {
+			mean[j] /= float64(n)
+		}
+	}
+	for _, j := range angles {
+		mean[j] = math.Atan2(sn[j], cs[j])
+	}
+	for j := range cov[:d*d] {
+		cov[j] = 0
+	}
+	r := sc[:d] // the sine sums are no longer needed
+	for i := 0; i < n; i++ {
+		wi := wu
+		if w != nil {
+			wi = w[i]
+		}
+		vi := v[i*d : i*d+d]
+		for j, x := range vi {
+			r[j] = x - mean[j]
+		}
+		for _, j := range angles {
+			r[j] = wrapAngle(r[j])
+		}
+		for a := 0; a < d; a++ {
+			ra := wi * r[a]
+			row := cov[a*d : a*d+a+1]
+			for b := range row {
+				row[b] += ra * r[b]
+			}
+		}
+	}
+	for a := 0; a < d; a++ {
+		for b := 0; b <= a; b++ {
+			if w == nil {
+				cov[a*d+b] /= float64(n)
+			}
+			cov[b*d+a] = cov[a*d+b]
+		}
+	}
+}
+
+// systematicResample writes into dst the n = len(w) particles (d values
+// each) of src selected by systematic resampling with offset u in (0, 1]
+// (Kitagawa 1996; Douc, Cappé & Moulines 2005): with weights w summing to
+// n/scale and C_i = scale·(w_0+...+w_i),
+// position j+u (j = 0..n-1) selects the particle i with
+// C_{i-1} < j+u <= C_i. Particle i thus starts at position
+// s_i = floor(C_{i-1}-u+1) (s_0 = 0) and has s_{i+1}-s_i offspring, which is
+// floor(n w_i) or ceil(n w_i); the last particle takes the positions left by
+// rounding. idx (n+1, all zero) is workspace and is left all zero.
+//
+// It runs without data-dependent branches: one pass stores i at idx[s_i]
+// (a later particle with the same start overwrites one with no offspring;
+// idx[n] absorbs starts at n), and one pass takes the running maximum of
+// idx as the parent of each position and copies it.
+func systematicResample(dst, src, w []float64, idx []int32, d int, scale, u float64) {
+	n := len(w)
+	idx = idx[:n+1]
+	var c float64
+	for i := 1; i < n; i++ {
+		c += w[i-1] * scale
+		s := min(int(c-u+1), n)
+		idx[s] = int32(i)
+	}
+	var p int32
+	if d == 1 {
+		dst, src = dst[:n], src[:n]
+		for j := range dst {
+			p = max(p, idx[j])
+			idx[j] = 0
+			dst[j] = src[p]
+		}
+		idx[n] = 0
+		return
+	}
+	for j := 0; j < n; j++ {
+		p = max(p, idx[j])
+		idx[j] = 0
+		copy(dst[j*d:j*d+d], src[int(p)*d:int(p)*d+d])
+	}
+	idx[n] = 0
+}
+
+// psdFactor writes into l a lower triangular factor of the symmetric
+// positive semi-definite a (n x n), a = l lᵀ, by Cholesky with zero
+// columns where a pivot vanishes. A pivot is taken as zero when it is at
+// most tol = 1e-12 times the largest diagonal entry; the entries below it
+// must then be at most sqrt(tol) times that entry (for a PSD matrix they
+// are bounded by sqrt(pivot · diagonal)). It reports false if a is not PSD
+// by that test or has non-finite entries. l must not alias a.
+func psdFactor(l, a []float64, n int) bool {
+	var dmax float64
+	for i := 0; i < n; i++ {
+		d := a[i*n+i]
+		if !(d >= 0) || math.IsInf(d, 0) {
+			return false
+		}
+		dmax = max(dmax, d)
+	}
+	tol := 1e-12 * dmax
+	offTol := 1e-6 * dmax
+	for j := 0; j < n; j++ {
+		s := a[j*n+j]
+		for k := 0; k < j; k++ {
+			s -= l[j*n+k] * l[j*n+k]
+		}
+		for i := 0; i < j; i++ {
+			l[i*n+j] = 0
+		}
+		if s <= tol {
+			if s < -tol {
+				return false
+			}
+			l[j*n+j] = 0
+			for i := j + 1; i < n; i++ {
+				t := a[i*n+j]
+				for k := 0; k < j; k++ {
+					t -= l[i*n+k] * l[j*n+k]
+				}
+				if !(math.Abs(t) <= offTol) {
+					return false
+				}
+				l[i*n+j] = 0
+			}
+			continue
+		}
+		d := math.Sqrt(s)
+		l[j*n+j] = d
+		inv := 1 / d
+		for i := j + 1; i < n; i++ {
+			t := a[i*n+j]
+			for k := 0; k < j; k++ {
+				t -= l[i*n+k] * l[j*n+k]
+			}
+			if math.IsNaN(t) || math.IsInf(t, 0) {
+				return false
+			}
+			l[i*n+j] = t * inv
+		}
+	}
+	return true
+}
