@@ -77,8 +77,9 @@ type UKF struct {
 	// workspace, sized at set-up, reused every step
 	l    []float64 // Cholesky factor of P (nx*nx)
 	xs   []float64 // sigma points, (2nx+1) x nx
-	ys   []float64 // propagated sigma points, then their deviations, (2nx+1) x nx
-	zs   []float64 // sigma-point measurements, then their deviations, (2nx+1) x nz
+	ys   []float64 // propagated sigma points, (2nx+1) x nx
+	zs   []float64 // sigma-point measurements, (2nx+1) x nz
+	dt   []float64 // deviations from the mean, transposed: nx x (2nx+1) (nz rows in Update)
 	zhat []float64 // predicted measurement (nz)
 	nu   []float64 // innovation, angles wrapped (nz)
 	s    []float64 // innovation covariance S (nz*nz)
@@ -107,6 +108,7 @@ func NewUKF(m *Model, cfg UKFConfig) (*UKF, error) {
 		xs:   make([]float64, np*nx),
 		ys:   make([]float64, np*nx),
 		zs:   make([]float64, np*nz),
+		dt:   make([]float64, max(nx, nz)*np),
 		zhat: make([]float64, nz),
 		nu:   make([]float64, nz),
 		s:    make([]float64, nz*nz),
@@ -145,8 +147,8 @@ func (f *UKF) Predict(k int) error {
 		}
 	}
 	f.w.mean(f.x, f.ys, nx, f.m.AngleState)
-	f.w.deviate(f.ys, f.x, nx, f.m.AngleState)
-	f.w.cov(f.p, f.ys, nx)
+	f.w.deviate(f.dt, f.ys, f.x, nx, f.m.AngleState)
+	f.w.cov(f.p, f.dt, nx)
 	for i, q := range f.m.Q {
 		f.p[i] += q
 	}
@@ -178,8 +180,8 @@ func (f *UKF) Update(z []float64, k int) error {
 		}
 	}
 	f.w.mean(f.zhat, f.zs, nz, f.m.AngleMeas)
-	f.w.deviate(f.zs, f.zhat, nz, f.m.AngleMeas)
-	f.w.cov(f.s, f.zs, nz)
+	f.w.deviate(f.dt, f.zs, f.zhat, nz, f.m.AngleMeas)
+	f.w.cov(f.s, f.dt, nz)
 	for i, r := range f.m.R {
 		f.s[i] += r
 	}
@@ -187,7 +189,7 @@ func (f *UKF) Update(z []float64, k int) error {
 	if !cholesky(f.ls, f.s, nz) {
 		return ErrNotPosDef
 	}
-	f.w.crossFromChol(f.pxz, f.l, f.zs, nz)
+	f.w.crossFromChol(f.pxz, f.l, f.dt, nz)
 	copy(f.k, f.pxz)
 	cholSolveRowsT(f.ls, f.k, nx, nz)
 

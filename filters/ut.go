@@ -87,58 +87,56 @@ func (w *sigmaWeights) mean(dst, y []float64, m int, angles []int) {
 	}
 }
 
-// deviate replaces each of the 2n+1 rows of y (length m) by yᵢ − mean,
-// wrapped for the components listed in angles.
-func (w *sigmaWeights) deviate(y, mean []float64, m int, angles []int) {
-	for i := 0; i <= 2*w.n; i++ {
+// deviate writes the deviations yᵢ − mean of the 2n+1 rows of y (length
+// m), wrapped for the components listed in angles, transposed into dt
+// (m x (2n+1)): row j of dt holds component j of every deviation, so that
+// the covariances below are dot products of rows.
+func (w *sigmaWeights) deviate(dt, y, mean []float64, m int, angles []int) {
+	np := 2*w.n + 1
+	for i := 0; i < np; i++ {
 		row := y[i*m : i*m+m]
-		for j := range row {
-			row[j] -= mean[j]
+		for j, v := range row {
+			dt[j*np+i] = v - mean[j]
 		}
-		for _, j := range angles {
-			row[j] = wrapAngle(row[j])
+	}
+	for _, j := range angles {
+		for i := 0; i < np; i++ {
+			dt[j*np+i] = wrapAngle(dt[j*np+i])
 		}
 	}
 }
 
-// cov sets dst (m x m) = Σᵢ Wcᵢ dᵢ dᵢᵀ over the 2n+1 deviation rows d of
-// length m, computing the upper triangle and mirroring it.
-func (w *sigmaWeights) cov(dst, d []float64, m int) {
-	n := w.n
+// cov sets dst (m x m) = Σᵢ Wcᵢ dᵢ dᵢᵀ for the transposed deviations dt
+// made by deviate: Wᵢ·(dt dtᵀ) + (Wc₀ − Wᵢ) d₀ d₀ᵀ.
+func (w *sigmaWeights) cov(dst, dt []float64, m int) {
+	np := 2*w.n + 1
+	abt(dst, dt, dt, m, np, m, true)
+	c0 := w.wc0 - w.wi
 	for a := 0; a < m; a++ {
-		for b := a; b < m; b++ {
-			var s float64
-			for i := 1; i <= 2*n; i++ {
-				s += d[i*m+a] * d[i*m+b]
-			}
-			v := w.wc0*d[a]*d[b] + w.wi*s
-			dst[a*m+b] = v
-			dst[b*m+a] = v
+		da := dt[a*np]
+		for b := 0; b < m; b++ {
+			dst[a*m+b] = w.wi*dst[a*m+b] + c0*da*dt[b*np]
 		}
 	}
 }
 
-// crossFromChol sets dst (n x m) = Σᵢ Wcᵢ (Xᵢ − x)(dᵢ)ᵀ for sigma points X
-// made by points from the Cholesky factor l, using Xᵢ − x = ±c·Lᵢ directly
-// (the central point contributes nothing): dst = Wᵢ c Σⱼ Lⱼ (d₁₊ⱼ − d₁₊ₙ₊ⱼ)ᵀ.
-func (w *sigmaWeights) crossFromChol(dst, l, d []float64, m int) {
+// crossFromChol sets dst (n x m) = Σᵢ Wcᵢ (Xᵢ − x) dᵢᵀ for sigma points X
+// made by points from the Cholesky factor l and transposed deviations dt,
+// using Xᵢ − x = ±c·Lᵢ directly (the central point contributes nothing):
+// dst[r][s] = Wᵢ c Σⱼ L[r][j] (dt[s][1+j] − dt[s][1+n+j]).
+func (w *sigmaWeights) crossFromChol(dst, l, dt []float64, m int) {
 	n := w.n
+	np := 2*n + 1
 	f := w.wi * w.c
 	for r := 0; r < n; r++ {
-		out := dst[r*m : r*m+m]
-		for s := range out {
-			out[s] = 0
-		}
-		for j := 0; j <= r; j++ { // L is lower triangular
-			lv := f * l[r*n+j]
-			if lv == 0 {
-				continue
+		lr := l[r*n : r*n+r+1] // L is lower triangular
+		for s := 0; s < m; s++ {
+			ds := dt[s*np : s*np+np]
+			var acc float64
+			for j, lv := range lr {
+				acc += lv * (ds[1+j] - ds[1+n+j])
 			}
-			dp := d[(1+j)*m : (2+j)*m]
-			dm := d[(1+n+j)*m : (2+n+j)*m]
-			for s := range out {
-				out[s] += lv * (dp[s] - dm[s])
-			}
+			dst[r*m+s] = f * acc
 		}
 	}
 }
@@ -167,8 +165,9 @@ func unscentedTransform(mean, cov []float64, ny int, g func(dst, x []float64), a
 	}
 	ym = make([]float64, ny)
 	w.mean(ym, ys, ny, angles)
-	w.deviate(ys, ym, ny, angles)
+	dt := make([]float64, ny*(2*n+1))
+	w.deviate(dt, ys, ym, ny, angles)
 	ycov = make([]float64, ny*ny)
-	w.cov(ycov, ys, ny)
+	w.cov(ycov, dt, ny)
 	return ym, ycov, nil
 }
