@@ -45,6 +45,7 @@ type EKF struct {
 // NewEKF returns an extended Kalman filter for m.
 func NewEKF(m *Model, cfg EKFConfig) (*EKF, error) {
 	m.check()
+	checkAngles(m)
 	step := cfg.Step
 	if step == 0 {
 		step = DefaultEKFStep

@@ -24,8 +24,8 @@ type KFConfig struct{}
 //
 // A and C are evaluated every step (FJac(x, k), HJac(x, k)), so linear
 // time-varying models work. If FJac or HJac is nil, the matrix is found by
-// central differences of F or H about the origin with unit step, which is
-// exact for affine maps up to rounding.
+// central differences of F or H about the origin with unit step (2*Nx
+// calls per step), which is exact for affine maps up to rounding.
 //
 // KF has no parameters. It implements Filter and Innovator, and keeps the
 // Gaussian log-likelihood of the innovations (LogLikelihood).
@@ -36,6 +36,7 @@ type KF struct {
 // NewKF returns a Kalman filter for m. It fails if m.Linear is false.
 func NewKF(m *Model, cfg KFConfig) (*KF, error) {
 	m.check()
+	checkAngles(m)
 	if !m.Linear {
 		return nil, errors.New("filters: kf needs a linear model (Model.Linear is false)")
 	}
@@ -70,6 +71,20 @@ func (f *KF) InnovationTo(nu, s []float64) bool { return f.c.innovationTo(nu, s)
 //
 // the prediction error decomposition of the likelihood of the measurements.
 func (f *KF) LogLikelihood() float64 { return f.c.loglik }
+
+// checkAngles panics if m lists an angle component that does not exist.
+func checkAngles(m *Model) {
+	for _, i := range m.AngleMeas {
+		if i < 0 || i >= m.Nz {
+			panic("filters: Model.AngleMeas index out of range")
+		}
+	}
+	for _, i := range m.AngleState {
+		if i < 0 || i >= m.Nx {
+			panic("filters: Model.AngleState index out of range")
+		}
+	}
+}
 
 // linCore is the linearised Gaussian filter shared by KF and EKF: the same
 // prediction and Joseph-form update, differing only in where the Jacobians
@@ -248,7 +263,7 @@ func (c *linCore) update(z []float64, k int) error {
 			gi[j] = s - gi[j] // (K R - M Cᵀ)
 		}
 	}
-	abt(c.tmp, c.kr, c.k, nx, nz, nx, true)
+	abt(c.tmp, c.kr, c.k, nx, nz, nx, true) // upper triangle read only
 	for i := 0; i < nx; i++ {
 		for j := i; j < nx; j++ {
 			v := c.ap[i*nx+j] + c.tmp[i*nx+j]
@@ -282,8 +297,9 @@ func (c *linCore) addLogLik() {
 }
 
 // abt sets dst (m x n) = a bᵀ for a (m x k) and b (n x k): every entry is
-// a dot product of two rows. If sym, the product is known to be symmetric
-// (m == n): only the upper triangle is computed, then mirrored. Columns are
+// a dot product of two rows. If sym (m == n), only the upper triangle is
+// computed and then mirrored: for products known to be symmetric, or when
+// the caller reads only the upper triangle. Columns are
 // taken four at a time with independent sums, so the additions do not
 // wait on one another; this is where the small filters spend their time.
 // dst must not alias a or b.

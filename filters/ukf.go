@@ -47,9 +47,9 @@ func (c UKFConfig) resolved() UKFConfig {
 // der Merwe 2000, "The unscented Kalman filter for nonlinear estimation").
 // Parameters: UKFConfig (defaults Alpha 1, Beta 2, Kappa 0).
 //
-// Predict draws 2n+1 sigma points from the Cholesky factor of P, passes
+// Predict forms 2n+1 sigma points from the Cholesky factor of P, passes
 // them through F (FMany when set), and takes their weighted mean and
-// covariance plus Q. Update draws a fresh set of sigma points from the
+// covariance plus Q. Update forms a fresh set of sigma points from the
 // predicted mean and covariance (so that Q is reflected in them), passes
 // them through H (HMany when set), and forms the predicted measurement,
 // S = Σ Wc (Zᵢ−ẑ)(Zᵢ−ẑ)ᵀ + R, the cross covariance Pxz, the gain
@@ -93,6 +93,7 @@ type UKF struct {
 // Nx + Kappa is not positive.
 func NewUKF(m *Model, cfg UKFConfig) (*UKF, error) {
 	m.check()
+	checkAngles(m)
 	c := cfg.resolved()
 	w, err := newSigmaWeights(m.Nx, c.Alpha, c.Beta, c.Kappa)
 	if err != nil {
