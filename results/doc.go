@@ -20,10 +20,12 @@
 // (time per step in ns, µs, ms or s; a power-of-ten factor in the header
 // when a column's magnitude is far from 1), decimals chosen from the
 // column's smallest nonzero value so that it keeps three significant digits
-// (at most six decimals), "-" where a value is missing. ANEES and ANIS stand
-// beside their 95% bounds and a mark saying whether they are inside them.
-// Notes (why a pair did not apply) and warnings are numbered footnotes under
-// the table; identical texts share one number.
+// (at most six decimals), "-" where a value is missing. A column whose
+// nonzero values span a factor of 1e4 or more is in e-notation with three
+// significant digits instead. ANEES and ANIS stand beside their 95% bounds
+// and a mark saying whether they are inside them (in, high, low), with a
+// legend under the table. Notes (why a pair did not apply) and warnings are
+// numbered footnotes under the table; identical texts share one number.
 //
 // # Files
 //

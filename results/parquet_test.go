@@ -2,11 +2,13 @@ package results
 
 import (
 	"encoding/binary"
+	"encoding/json"
 	"errors"
 	"io"
 	"math"
 	"math/rand/v2"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"slices"
 	"strconv"
@@ -22,8 +24,9 @@ import (
 // which is independent of the writer code here but not of the library.
 // Debian bookworm has no python3-pyarrow (apt-cache policy python3-pyarrow
 // finds no candidate), so no second implementation reads them in these
-// tests; checkMagic checks the container layout against the format
-// specification directly.
+// tests by default; checkMagic checks the container layout against the
+// format specification directly, and TestParquetIndependentReader reads the
+// files with a JavaScript implementation when one is provided.
 
 // checkMagic checks the framing of the Apache Parquet file format
 // specification ("File Format"): the file starts and ends with the magic
@@ -391,5 +394,121 @@ func TestWriteFileAtomic(t *testing.T) {
 	if err := WriteFileAtomic(missingDir, func(io.Writer) error { return nil }); err == nil ||
 		!strings.Contains(err.Error(), missingDir) {
 		t.Errorf("missing directory: %v", err)
+	}
+}
+
+// TestParquetIndependentReader reads the three files with hyparquet 1.31.5
+// (Hyperparam, MIT licence, from the npm registry), a JavaScript Parquet
+// reader that shares no code with arrow-go, through
+// testdata/check_parquet.mjs. It needs node and the package folder in
+// ESTBENCH_HYPARQUET (npm install hyparquet@1.31.5; the folder is
+// node_modules/hyparquet) and is skipped without them.
+func TestParquetIndependentReader(t *testing.T) {
+	pkg := os.Getenv("ESTBENCH_HYPARQUET")
+	if pkg == "" {
+		t.Skip("set ESTBENCH_HYPARQUET to a hyparquet package folder (npm install hyparquet@1.31.5) to check the files with a second Parquet reader")
+	}
+	node, err := exec.LookPath("node")
+	if err != nil {
+		t.Skip("node not found")
+	}
+	dir := t.TempDir()
+	type table struct {
+		Columns []string `json:"columns"`
+		Rows    [][]any  `json:"rows"`
+	}
+	num := func(v float64) any {
+		if math.IsNaN(v) {
+			return nil
+		}
+		return v
+	}
+	exp := map[string]table{}
+
+	sum := fixtureRows()
+	if err := WriteSummaryParquet(filepath.Join(dir, "summary.parquet"), sum); err != nil {
+		t.Fatal(err)
+	}
+	st := table{Columns: SummaryColumns}
+	for i := range sum {
+		r := &sum[i]
+		runs, div := summaryCounts(r)
+		row := []any{r.Problem, r.Filter, r.Config, runs, div}
+		for _, v := range summaryValues(r) {
+			row = append(row, num(v))
+		}
+		st.Rows = append(st.Rows, append(row, noteOf(r)))
+	}
+	exp["summary.parquet"] = st
+
+	rw, err := NewRunsWriter(filepath.Join(dir, "runs.parquet"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	rt := table{Columns: RunColumns}
+	rng := rand.New(rand.NewPCG(7, 8))
+	for r := range 2 * batchRows {
+		x := runRow(rng, r)
+		if err := rw.Write(x); err != nil {
+			t.Fatal(err)
+		}
+		rt.Rows = append(rt.Rows, []any{x.Problem, x.Filter, x.Config, x.Run, x.Diverged, x.DivStep, x.Reason,
+			num(x.RMSE), num(x.ANEES), num(x.ANIS), num(x.NsPerStep), num(x.MeanESS)})
+	}
+	if err := rw.Close(); err != nil {
+		t.Fatal(err)
+	}
+	exp["runs.parquet"] = rt
+
+	cw, err := NewCurvesWriter(filepath.Join(dir, "curves.parquet"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	ct := table{Columns: CurveColumns}
+	for k := 1; k <= 50; k++ {
+		c := CurveRow{Problem: "cv2d", Filter: "ukf", Config: "alpha=1", CurvePoint: metrics.CurvePoint{
+			Step: k, RMSE: 1 / float64(k), ANEES: 4 + 1/float64(k), ANEESLo: 3.5, ANEESHi: 4.6, ANIS: math.NaN(), Runs: 100}}
+		if err := cw.Write(c); err != nil {
+			t.Fatal(err)
+		}
+		ct.Rows = append(ct.Rows, []any{c.Problem, c.Filter, c.Config, c.Step,
+			num(c.RMSE), num(c.ANEES), num(c.ANEESLo), num(c.ANEESHi), num(c.ANIS), c.Runs})
+	}
+	if err := cw.Close(); err != nil {
+		t.Fatal(err)
+	}
+	exp["curves.parquet"] = ct
+
+	b, err := json.Marshal(exp)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "expected.json"), b, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out, err := exec.Command(node, filepath.Join("testdata", "check_parquet.mjs"), pkg, dir).CombinedOutput()
+	if err != nil || strings.TrimSpace(string(out)) != "ok" {
+		t.Fatalf("hyparquet check failed (%v):\n%s", err, out)
+	}
+}
+
+// BenchmarkRunsWriter measures one Write, flushes and row groups included
+// (amortised); the Close of the file is outside the loop.
+func BenchmarkRunsWriter(b *testing.B) {
+	w, err := NewRunsWriter(filepath.Join(b.TempDir(), "runs.parquet"))
+	if err != nil {
+		b.Fatal(err)
+	}
+	row := runRow(rand.New(rand.NewPCG(9, 10)), 1)
+	b.ReportAllocs()
+	for i := 0; b.Loop(); i++ {
+		row.Run = i
+		if err := w.Write(row); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.StopTimer()
+	if err := w.Close(); err != nil {
+		b.Fatal(err)
 	}
 }

@@ -237,7 +237,7 @@ func exactRows() []SummaryRow {
 		Problem: `odd "name", with comma`, Filter: "ukf", Config: "alpha=0.5", Applicable: true,
 		Summary: metrics.Summary{
 			Runs: 3, Diverged: 1,
-			RMSE: 0.1 + 0.2, RMSELo: 1.0 / 3, RMSEHi: 2.0 / 3,
+			RMSE: math.Nextafter(0.3, 1), RMSELo: 1.0 / 3, RMSEHi: 2.0 / 3,
 			ANEES: math.Pi * 1e-7, ANEESLo: 5e-324, ANEESHi: math.MaxFloat64, NEESInBounds: math.Copysign(0, -1),
 			ANIS: math.Inf(1), ANISLo: nan, ANISHi: math.Nextafter(1, 2),
 			NsPerStep: 123456789.123456789, MeanESS: nan,
