@@ -4,7 +4,7 @@ GO ?= go
 
 # The main job: the built-in default suite.
 run:
-	$(GO) run ./bench/cmd/estbench run
+	$(GO) run -buildvcs=auto ./bench/cmd/estbench run
 
 # The tests: go vet and go test over every package.
 test:
@@ -12,7 +12,7 @@ test:
 	$(GO) test ./...
 
 build:
-	$(GO) build -o bin/estbench ./bench/cmd/estbench
+	$(GO) build -buildvcs=auto -o bin/estbench ./bench/cmd/estbench
 
 # Per-step benchmarks of every filter on every problem.
 bench:

@@ -1,0 +1,197 @@
+package main
+
+import (
+	"errors"
+	"flag"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"time"
+
+	"github.com/estbench/estbench/bench"
+	"github.com/estbench/estbench/metrics"
+	"github.com/estbench/estbench/results"
+)
+
+const runUsage = `Usage: estbench run [flags]
+
+Runs every filter configuration of a suite over Monte Carlo runs of its
+problems, prints the summary table and writes the result files:
+summary.parquet, runs.parquet, curves.parquet, summary.md, manifest.json.
+Without --suite the built-in default suite runs.
+
+Flags:
+`
+
+func cmdRun(args []string, stdout, stderr io.Writer) int {
+	fs := flag.NewFlagSet("run", flag.ContinueOnError)
+	fs.SetOutput(stderr)
+	suitePath := fs.String("suite", "", "suite `FILE` (TOML); the built-in default suite if empty")
+	runs := fs.Int("runs", 0, "Monte Carlo runs `N`, overriding the suite's")
+	seed := fs.String("seed", "", "suite seed `N` (unsigned integer), overriding the suite's")
+	workers := fs.Int("workers", 0, "runs computed in parallel (0: one per CPU); never changes results")
+	outDir := fs.String("out", "", "result `DIR` (default estbench-out/<UTC timestamp>)")
+	format := fs.String("format", "table", "summary format on stdout: "+strings.Join(results.Formats, ", "))
+	fs.Usage = func() {
+		fmt.Fprint(stderr, runUsage)
+		fs.PrintDefaults()
+	}
+	if err := fs.Parse(args); err != nil {
+		return usageExit(err)
+	}
+	if fs.NArg() > 0 {
+		fmt.Fprintf(stderr, "estbench run: unexpected argument %q\n", fs.Arg(0))
+		return exitUsage
+	}
+	if !validFormat(*format) {
+		fmt.Fprintf(stderr, "estbench run: unknown format %q%s; valid: %s\n", *format, didYouMean(*format, results.Formats), strings.Join(results.Formats, ", "))
+		return exitUsage
+	}
+	if *runs < 0 || *workers < 0 {
+		fmt.Fprintln(stderr, "estbench run: --runs and --workers must not be negative")
+		return exitUsage
+	}
+
+	cat := bench.Builtin()
+	file, data := "built-in default suite", bench.DefaultSuite
+	if *suitePath != "" {
+		b, err := os.ReadFile(*suitePath)
+		if err != nil {
+			fmt.Fprintf(stderr, "estbench run: %v\n", err)
+			return exitUsage
+		}
+		file, data = *suitePath, b
+	}
+	s, err := bench.ParseSuite(file, data, cat)
+	if err != nil {
+		fmt.Fprintf(stderr, "estbench run: %v\n", err)
+		return exitUsage
+	}
+	if *runs > 0 {
+		s.Runs = *runs
+	}
+	if *seed != "" {
+		v, err := parseSeed(*seed)
+		if err != nil {
+			fmt.Fprintf(stderr, "estbench run: --seed: %v\n", err)
+			return exitUsage
+		}
+		s.Seed = v
+	}
+
+	start := time.Now().UTC()
+	dir := *outDir
+	if dir == "" {
+		dir = filepath.Join("estbench-out", start.Format("20060102T150405Z"))
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		fmt.Fprintf(stderr, "estbench run: %v\n", err)
+		return exitFailed
+	}
+	rw, err := results.NewRunsWriter(filepath.Join(dir, "runs.parquet"))
+	if err != nil {
+		fmt.Fprintf(stderr, "estbench run: %v\n", err)
+		return exitFailed
+	}
+	var writeErr error
+	prog := newProgress(stderr, len(s.Problems)*s.Runs)
+	out, err := bench.Run(s, bench.Options{
+		Workers:  *workers,
+		Progress: prog.set,
+		OnRun: func(p *bench.Pair, st metrics.RunStat) {
+			if writeErr == nil {
+				writeErr = rw.Write(results.RunRow{Problem: p.Problem, Filter: p.Filter, Config: p.Config, RunStat: st})
+			}
+		},
+	})
+	prog.finish()
+	if err == nil {
+		err = writeErr
+	}
+	if err != nil {
+		rw.Abort()
+		fmt.Fprintf(stderr, "estbench run: %v\n", err)
+		if errors.As(err, new(*bench.SuiteError)) {
+			return exitUsage
+		}
+		return exitFailed
+	}
+	if err := rw.Close(); err != nil {
+		fmt.Fprintf(stderr, "estbench run: %v\n", err)
+		return exitFailed
+	}
+
+	rows := summaryRows(out)
+	man := results.CollectEnvironment()
+	man.Suite = s.Name
+	man.SuiteSHA256 = s.Hash()
+	man.Seed = s.Seed
+	man.Runs = s.Runs
+	man.Workers = *workers
+	man.Command = os.Args
+	man.Start, man.End = out.Start, out.End
+	prov := results.Provenance{Suite: s.Name, SuiteSHA256: man.SuiteSHA256, Seed: s.Seed, Runs: s.Runs, Tool: "estbench " + man.Version, Date: out.End}
+	files := []struct {
+		name  string
+		write func(path string) error
+	}{
+		{"summary.parquet", func(p string) error { return results.WriteSummaryParquet(p, rows) }},
+		{"curves.parquet", func(p string) error { return writeCurves(p, out) }},
+		{"summary.md", func(p string) error { return results.WriteSummaryMD(p, rows, prov) }},
+	}
+	man.Files = []string{"runs.parquet"}
+	for _, f := range files {
+		if err := f.write(filepath.Join(dir, f.name)); err != nil {
+			fmt.Fprintf(stderr, "estbench run: %s: %v\n", f.name, err)
+			return exitFailed
+		}
+		man.Files = append(man.Files, f.name)
+	}
+	man.Files = append(man.Files, "manifest.json")
+	if err := results.WriteManifest(filepath.Join(dir, "manifest.json"), man); err != nil {
+		fmt.Fprintf(stderr, "estbench run: manifest.json: %v\n", err)
+		return exitFailed
+	}
+	if err := results.WriteSummary(stdout, *format, rows, prov); err != nil {
+		fmt.Fprintf(stderr, "estbench run: %v\n", err)
+		return exitFailed
+	}
+	fmt.Fprintf(stderr, "estbench: results in %s\n", dir)
+	return exitOK
+}
+
+func summaryRows(out *bench.Outcome) []results.SummaryRow {
+	rows := make([]results.SummaryRow, len(out.Pairs))
+	for i, p := range out.Pairs {
+		rows[i] = results.SummaryRow{Problem: p.Problem, Filter: p.Filter, Config: p.Config,
+			Applicable: p.Applicable, Note: p.Note, Summary: p.Summary, AllocsPerStep: p.AllocsPerStep}
+	}
+	return rows
+}
+
+func writeCurves(path string, out *bench.Outcome) error {
+	cw, err := results.NewCurvesWriter(path)
+	if err != nil {
+		return err
+	}
+	for _, p := range out.Pairs {
+		for _, c := range p.Curves {
+			if err := cw.Write(results.CurveRow{Problem: p.Problem, Filter: p.Filter, Config: p.Config, CurvePoint: c}); err != nil {
+				cw.Abort()
+				return err
+			}
+		}
+	}
+	return cw.Close()
+}
+
+func validFormat(f string) bool {
+	for _, v := range results.Formats {
+		if v == f {
+			return true
+		}
+	}
+	return false
+}

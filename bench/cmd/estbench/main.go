@@ -1,0 +1,58 @@
+// Command estbench runs benchmark suites of state estimators and writes
+// RMSE, consistency and runtime tables and files. See README.md.
+package main
+
+import (
+	"fmt"
+	"io"
+	"os"
+)
+
+func main() {
+	os.Exit(dispatch(os.Args[1:], os.Stdout, os.Stderr))
+}
+
+// Exit codes.
+const (
+	exitOK     = 0 // success
+	exitFailed = 1 // a run failed
+	exitUsage  = 2 // bad usage or bad input
+)
+
+const usage = `estbench: benchmark state estimators over Monte Carlo runs
+
+Usage:
+  estbench run [flags]     run a suite (the built-in default suite without --suite)
+  estbench list            list every problem and filter with parameters, defaults, traits and source
+  estbench version         print the version
+  estbench help [command]  show help
+
+Run 'estbench <command> -h' for the flags of a command.
+`
+
+var commands = []string{"run", "list", "version", "help"}
+
+// dispatch runs the command named by args[0] and returns the exit code.
+func dispatch(args []string, stdout, stderr io.Writer) int {
+	if len(args) == 0 {
+		fmt.Fprint(stderr, usage)
+		return exitUsage
+	}
+	switch args[0] {
+	case "run":
+		return cmdRun(args[1:], stdout, stderr)
+	case "list":
+		return cmdList(args[1:], stdout, stderr)
+	case "version":
+		fmt.Fprintln(stdout, "estbench", toolVersion())
+		return exitOK
+	case "help", "-h", "-help", "--help":
+		if len(args) > 1 {
+			return dispatch([]string{args[1], "-h"}, stdout, stderr)
+		}
+		fmt.Fprint(stdout, usage)
+		return exitOK
+	}
+	fmt.Fprintf(stderr, "estbench: unknown command %q%s\n\n%s", args[0], didYouMean(args[0], commands), usage)
+	return exitUsage
+}
