@@ -39,18 +39,21 @@ const (
 // is not positive semi-definite. Q is treated the same way (zero-variance
 // components get no noise). R must be positive definite.
 //
-// Weights are kept as logarithms and normalised by log-sum-exp. The
-// estimate is the weighted mean and covariance of the particles, taken after
-// the weights of an update and before resampling; Model.AngleState
-// components use the circular mean atan2(Σw sin, Σw cos) and wrapped
-// residuals. A particle whose log-weight is NaN (a NaN measurement
-// function value) gets weight zero; if no particle has a positive weight,
-// Update returns ErrWeightsZero, and if the estimate is not finite,
-// ErrNonFinite. After either error the filter must be Reset.
+// Weights are kept as logarithms and normalised by log-sum-exp, so a
+// measurement far from every particle leaves the nearest ones, not an
+// error. Log-weights are floored at -1e13 (a residual of over 4·10⁶
+// standard deviations): a particle whose log-likelihood is below the floor
+// or NaN (a NaN measurement function value) gets weight zero, and if no
+// particle is above it Update returns ErrWeightsZero. The estimate is the
+// weighted mean and covariance of the particles, taken after the weights of
+// an update and before resampling; Model.AngleState components use the
+// circular mean atan2(Σw sin, Σw cos) and wrapped residuals. If the
+// estimate is not finite Update returns ErrNonFinite. After either error
+// the filter must be Reset.
 //
 // The innovation is nu = z - zhat, with zhat the weighted mean of the
 // predicted particle measurements H(x_i) under the weights before the
-// update, and S their weighted covariance plus R.
+// update, and S their weighted covariance plus R (NaN if any H(x_i) is).
 //
 // PF implements Filter, Innovator and ESSer. It calls Model.FMany and
 // Model.HMany, when set, once per step for all particles (stored one after
@@ -64,6 +67,7 @@ type PF struct {
 	scalar bool    // Nx == Nz == 1 and no angles: scalar fast paths
 
 	lq    []float64 // PSD lower factor of Q, Nx*Nx
+	qcols []int     // the nonzero columns of lq (noise draws per particle)
 	lr    []float64 // lower Cholesky factor of R, Nz*Nz
 	sqQ   float64   // sqrt(Q) when scalar
 	halfR float64   // -1/(2R) when scalar
@@ -92,7 +96,8 @@ type PF struct {
 	r   []float64 // one residual, max(Nx, Nz)
 	e   []float64 // one standard normal draw, Nx
 	l0  []float64 // PSD lower factor of p0, Nx*Nx
-	sum []float64 // sin/cos sums for circular means, 2*max(Nx, Nz)
+	p0c []int     // the nonzero columns of l0, capacity Nx
+	res []float64 // residuals of the points of a weighted moment, n*max(Nx, Nz)
 }
 
 // NewPF returns a bootstrap particle filter for m. It returns ErrNotPosDef
@@ -136,11 +141,13 @@ func NewPF(m *Model, cfg PFConfig) (*PF, error) {
 		r:      make([]float64, nm),
 		e:      make([]float64, nx),
 		l0:     make([]float64, nx*nx),
-		sum:    make([]float64, 2*nm),
+		p0c:    make([]int, 0, nx),
+		res:    make([]float64, n*nm),
 	}
 	if !psdFactor(f.lq, m.Q, nx) || !cholesky(f.lr, m.R, nz) {
 		return nil, ErrNotPosDef
 	}
+	f.qcols = nonzeroCols(nil, f.lq, nx)
 	f.sqQ = f.lq[0]
 	f.halfR = -0.5 / m.R[0]
 	return f, nil
@@ -164,31 +171,50 @@ func (f *PF) Reset(x0, p0 []float64, rng *rand.Rand) error {
 	if !psdFactor(f.l0, p0, nx) {
 		return ErrNotPosDef
 	}
+	f.p0c = nonzeroCols(f.p0c[:0], f.l0, nx)
 	for i := 0; i < f.n; i++ {
 		xi := f.x[i*nx : i*nx+nx]
 		copy(xi, x0)
-		f.addNoise(xi, f.l0)
+		f.addNoise(xi, f.l0, f.p0c)
 	}
 	f.eq = true
 	return nil
 }
 
-// addNoise adds l e to v, with e a fresh standard normal vector and l a
-// lower triangular factor (Nx*Nx).
-func (f *PF) addNoise(v, l []float64) {
+// addNoise adds l e to v, with l a lower triangular factor (Nx*Nx) whose
+// nonzero columns are cols (increasing) and e standard normal: one draw per
+// nonzero column, so a rank-deficient factor costs fewer draws.
+func (f *PF) addNoise(v, l []float64, cols []int) {
 	nx := len(v)
 	e := f.e
-	for j := range e {
+	for _, j := range cols {
 		e[j] = f.rng.NormFloat64()
 	}
 	for i := 0; i < nx; i++ {
 		li := l[i*nx : i*nx+i+1]
 		var s float64
-		for j, lv := range li {
-			s += lv * e[j]
+		for _, j := range cols {
+			if j > i {
+				break
+			}
+			s += li[j] * e[j]
 		}
 		v[i] += s
 	}
+}
+
+// nonzeroCols appends to dst the indices of the columns of l (n x n) that
+// have a nonzero entry.
+func nonzeroCols(dst []int, l []float64, n int) []int {
+	for j := 0; j < n; j++ {
+		for i := j; i < n; i++ {
+			if l[i*n+j] != 0 {
+				dst = append(dst, j)
+				break
+			}
+		}
+	}
+	return dst
 }
 
 // Predict propagates every particle to step k and adds process noise.
@@ -213,7 +239,7 @@ func (f *PF) Predict(k int) error {
 		}
 	} else {
 		for i := 0; i < f.n; i++ {
-			f.addNoise(f.x[i*nx:i*nx+nx], f.lq)
+			f.addNoise(f.x[i*nx:i*nx+nx], f.lq, f.qcols)
 		}
 	}
 	f.estOK = false
@@ -248,10 +274,7 @@ func (f *PF) Update(z []float64, k int) error {
 		f.innovation(z)
 		mx = f.logLik(z)
 	}
-	if mx != mx {
-		mx = f.dropNaN()
-	}
-	if !(mx > math.Inf(-1)) {
+	if !(mx > lwFloor) {
 		return ErrWeightsZero
 	}
 
@@ -311,8 +334,8 @@ func (f *PF) Update(z []float64, k int) error {
 }
 
 // logLikScalar adds the log-likelihood -(z-h_i)²/(2R) of each particle to
-// its log-weight (or sets it if the weights are equal) and returns the
-// largest log-weight, NaN if any is NaN. In the same pass it takes the
+// its log-weight (or sets it if the weights are equal), floored at
+// lwFloor, and returns the largest log-weight. In the same pass it takes the
 // innovation from d_i = z - h_i: nu = Σw d, S = Σw d² - nu² + R, which is
 // the weighted variance of h_i plus R written about z (it loses relative
 // precision only about eps·(1 + nu²/S)).
@@ -327,8 +350,13 @@ func (f *PF) logLikScalar(z float64) float64 {
 			d := z - h
 			d2 := d * d
 			v := c * d2
+			if !(v >= lwFloor) { // also NaN; rare, so well predicted
+				v = lwFloor
+			}
 			lw[i] = v
-			mx = max(mx, v)
+			if v > mx {
+				mx = v
+			}
 			sd += d
 			sd2 += d2
 		}
@@ -340,8 +368,13 @@ func (f *PF) logLikScalar(z float64) float64 {
 			d := z - h
 			d2 := d * d
 			v := lw[i] + c*d2
+			if !(v >= lwFloor) {
+				v = lwFloor
+			}
 			lw[i] = v
-			mx = max(mx, v)
+			if v > mx {
+				mx = v
+			}
 			sd += w[i] * d
 			sd2 += w[i] * d2
 		}
@@ -356,7 +389,7 @@ func (f *PF) logLikScalar(z float64) float64 {
 // prior weights.
 func (f *PF) innovation(z []float64) {
 	m := f.m
-	weightedMoments(f.zm, f.s, f.zh, f.weights(), m.Nz, m.AngleMeas, f.sum)
+	weightedMoments(f.zm, f.s, f.zh, f.weights(), m.Nz, m.AngleMeas, f.res[:len(f.zh)])
 	for i, rv := range m.R {
 		f.s[i] += rv
 	}
@@ -370,8 +403,8 @@ func (f *PF) innovation(z []float64) {
 
 // logLik adds the Gaussian log-likelihood -|L⁻¹(z-h_i)|²/2 of each
 // particle to its log-weight (or sets it if the weights are equal), with
-// L the Cholesky factor of R and angle residuals wrapped, and returns the
-// largest log-weight, NaN if any is NaN.
+// L the Cholesky factor of R and angle residuals wrapped, floored at
+// lwFloor, and returns the largest log-weight.
 func (f *PF) logLik(z []float64) float64 {
 	m := f.m
 	nz := m.Nz
@@ -394,22 +427,13 @@ func (f *PF) logLik(z []float64) float64 {
 		if !f.eq {
 			v += f.lw[i]
 		}
-		f.lw[i] = v
-		mx = max(mx, v)
-	}
-	return mx
-}
-
-// dropNaN gives NaN log-weights weight zero and returns the largest
-// remaining log-weight (-Inf if none). It is the rare path.
-func (f *PF) dropNaN() float64 {
-	mx := math.Inf(-1)
-	for i, v := range f.lw {
-		if v != v {
-			f.lw[i] = math.Inf(-1)
-			continue
+		if !(v >= lwFloor) {
+			v = lwFloor
 		}
-		mx = max(mx, v)
+		f.lw[i] = v
+		if v > mx {
+			mx = v
+		}
 	}
 	return mx
 }
@@ -421,12 +445,20 @@ func (f *PF) checkEstimate() error {
 	return nil
 }
 
+// lwFloor bounds the log-weights from below (NaN is mapped to it too). A
+// log-likelihood under it is a residual of over 4·10⁶ standard deviations;
+// if no particle is above it, Update returns ErrWeightsZero. Log-weights
+// are also at most 0 (they are normalised after each update, and a
+// log-likelihood is at most 0), so the arguments lw_i - mx of the weight
+// exponential lie in [lwFloor, 0] and it needs no clamp.
+const lwFloor = -1e13
+
 // The weights exp(lw_i - mx) are computed by an inline exponential for
-// arguments x <= 0 (or NaN, giving NaN) with no branch. Results below 2^-500
-// (about 3e-151; x below about -346.57) are zero: relative to the largest weight 1
-// the mass dropped is below float64 resolution for any feasible N, and it
-// keeps every weight and squared weight a normal float64 (subnormal
-// arithmetic is slow). The reduction is x = (64e + j)·ln2/64 + r with
+// arguments x in [lwFloor, 0], with no branch (k below stays far from
+// overflow). Results below 2^-500 (about 3e-151; x below about -346.57)
+// are zero: relative to the largest weight 1 the mass dropped is below
+// float64 resolution for any feasible N, and it keeps every weight and
+// squared weight a normal float64 (subnormal arithmetic is slow). The reduction is x = (64e + j)·ln2/64 + r with
 // |r| <= ln2/128 and exp(x) = 2^e · 2^(j/64) · p(r), p the degree-5 Taylor
 // polynomial of exp (truncation below 4e-17 relative), the table-driven
 // method of Tang 1989, "Table-driven implementation of the exponential
@@ -438,7 +470,6 @@ const (
 	expInv   = 64 / math.Ln2         // 64/ln2
 	expLn2Hi = 0x1.62e42fefa0000p-7  // ln2/64, high 37 bits (k·hi is exact)
 	expLn2Lo = 0x1.cf79abc9e3b3ap-46 // ln2/64 - expLn2Hi
-	expFloor = -360.0                // clamp: keeps k small, maps -Inf
 	expECut  = -500                  // 2^e below 2^-500 gives zero
 )
 
@@ -450,11 +481,12 @@ var expTab = func() (t [64]float64) {
 	return t
 }()
 
-// expShift sets w[i] = exp(lw[i] - mx) (lw[i] <= mx) and returns Σw and Σw².
+// expShift sets w[i] = exp(lw[i] - mx) and returns Σw and Σw²; lw[i] - mx
+// must lie in [lwFloor, 0].
 func expShift(w, lw []float64, mx float64) (sum, sum2 float64) {
 	w = w[:len(lw)]
 	for i, v := range lw {
-		x := max(v-mx, expFloor) // NaN stays NaN
+		x := v - mx
 		t := x*expInv + expMagic
 		kd := t - expMagic
 		k := int64(math.Float64bits(t)) - int64(math.Float64bits(expMagic))
@@ -479,7 +511,7 @@ func expShiftDot(w, lw, xs []float64, mx float64) (sum, sum2, sx float64) {
 	w = w[:len(lw)]
 	xs = xs[:len(lw)]
 	for i, v := range lw {
-		x := max(v-mx, expFloor) // NaN stays NaN
+		x := v - mx
 		t := x*expInv + expMagic
 		kd := t - expMagic
 		k := int64(math.Float64bits(t)) - int64(math.Float64bits(expMagic))
@@ -502,7 +534,7 @@ func expShiftDot(w, lw, xs []float64, mx float64) (sum, sum2, sx float64) {
 
 // estimate sets mean and cov to the weighted moments of the particles.
 func (f *PF) estimate() {
-	weightedMoments(f.mean, f.cov, f.x, f.weights(), f.m.Nx, f.m.AngleState, f.sum)
+	weightedMoments(f.mean, f.cov, f.x, f.weights(), f.m.Nx, f.m.AngleState, f.res[:len(f.x)])
 	f.estOK = true
 }
 
@@ -554,9 +586,12 @@ func (f *PF) ESS() float64 { return f.ess }
 
 // weightedMoments sets mean (d) and cov (d*d) to the moments of the
 // n = len(v)/d points v (point i at v[i*d:]) under the normalised weights w,
-// or equal weights 1/n if w is nil. The components listed in angles get the
-// circular mean and wrapped residuals. sc is workspace of at least 2*d.
-func weightedMoments(mean, cov, v, w []float64, d int, angles []int, sc []float64) {
+// or equal weights 1/n if w is nil (sums are then divided by n, so equal
+// points give their value exactly). The components listed in angles get
+// the circular mean atan2(Σw sin, Σw cos) and wrapped residuals. res
+// (len(v)) is workspace for the residuals. Each sum runs over the points
+// with one accumulator, for the small d of filters.
+func weightedMoments(mean, cov, v, w []float64, d int, angles []int, res []float64) {
 	n := len(v) / d
 	if d == 1 && len(angles) == 0 {
 		var m, c float64
@@ -583,104 +618,108 @@ func weightedMoments(mean, cov, v, w []float64, d int, angles []int, sc []float6
 		mean[0], cov[0] = m, c
 		return
 	}
-	for j := range mean {
-		mean[j] = 0
-	}
-	sn, cs := sc[:d], sc[d:2*d]
-	for _, j := range angles {
-		sn[j], cs[j] = 0, 0
-	}
-	// Equal weights: sums divided by n, so that equal points give their
-	// value exactly.
-	wu := 1.0
-	if w != nil {
-		wu = 0
-	}
-	for i := 0; i < n; i++ {
-		wi := wu
-		if w != nil {
-			wi = w[i]
-		}
-		vi := v[i*d : i*d+d]
-		for j, x := range vi {
-			mean[j] += wi * x
-		}
-		for _, j := range angles {
-			s, c := math.Sincos(vi[j])
-			sn[j] += wi * s
-			cs[j] += wi * c
-		}
-	}
-	if w == nil {
-		for j := range mean {
+	for j := 0; j < d; j++ {
+		mean[j] = wsum1(v[j:], w, d)
+		if w == nil {
 			mean[j] /= float64(n)
 		}
 	}
 	for _, j := range angles {
-		mean[j] = math.Atan2(sn[j], cs[j])
-	}
-	for j := range cov[:d*d] {
-		cov[j] = 0
-	}
-	r := sc[:d] // the sine sums are no longer needed
-	for i := 0; i < n; i++ {
-		wi := wu
-		if w != nil {
-			wi = w[i]
-		}
-		vi := v[i*d : i*d+d]
-		for j, x := range vi {
-			r[j] = x - mean[j]
-		}
-		for _, j := range angles {
-			r[j] = wrapAngle(r[j])
-		}
-		for a := 0; a < d; a++ {
-			ra := wi * r[a]
-			row := cov[a*d : a*d+a+1]
-			for b := range row {
-				row[b] += ra * r[b]
+		var sn, cs float64
+		for i := 0; i < n; i++ {
+			wi := 1.0
+			if w != nil {
+				wi = w[i]
 			}
+			s, c := math.Sincos(v[i*d+j])
+			sn += wi * s
+			cs += wi * c
+		}
+		mean[j] = math.Atan2(sn, cs) // the 1/n of equal weights cancels
+	}
+	res = res[:len(v)]
+	for i := 0; i < len(v); i += d {
+		ri, vi := res[i:i+d], v[i:i+d]
+		for j, x := range vi {
+			ri[j] = x - mean[j]
+		}
+	}
+	for _, j := range angles {
+		for i := j; i < len(res); i += d {
+			res[i] = wrapAngle(res[i])
 		}
 	}
 	for a := 0; a < d; a++ {
 		for b := 0; b <= a; b++ {
+			c := wsum2(res[a:], res[b:], w, d)
 			if w == nil {
-				cov[a*d+b] /= float64(n)
+				c /= float64(n)
 			}
-			cov[b*d+a] = cov[a*d+b]
+			cov[a*d+b], cov[b*d+a] = c, c
 		}
 	}
+}
+
+// wsum1 returns Σ_i w_i x[i*d] over the points i (x starts at the
+// component wanted), or the plain sum if w is nil.
+func wsum1(x, w []float64, d int) float64 {
+	var s float64
+	if w == nil {
+		for k := 0; k < len(x); k += d {
+			s += x[k]
+		}
+		return s
+	}
+	for i, k := 0, 0; k < len(x); i, k = i+1, k+d {
+		s += w[i] * x[k]
+	}
+	return s
+}
+
+// wsum2 returns Σ_i w_i x[i*d] y[i*d], or the plain sum if w is nil; x is
+// the shorter of the two.
+func wsum2(x, y, w []float64, d int) float64 {
+	var s float64
+	y = y[:len(x)]
+	if w == nil {
+		for k := 0; k < len(x); k += d {
+			s += x[k] * y[k]
+		}
+		return s
+	}
+	for i, k := 0, 0; k < len(x); i, k = i+1, k+d {
+		s += w[i] * x[k] * y[k]
+	}
+	return s
 }
 
 // systematicResample writes into dst the n = len(w) particles (d values
 // each) of src selected by systematic resampling with offset u in (0, 1]
 // (Kitagawa 1996; Douc, Cappé & Moulines 2005): with weights w summing to
-// n/scale and C_i = scale·(w_0+...+w_i),
-// position j+u (j = 0..n-1) selects the particle i with
-// C_{i-1} < j+u <= C_i. Particle i thus starts at position
-// s_i = floor(C_{i-1}-u+1) (s_0 = 0) and has s_{i+1}-s_i offspring, which is
-// floor(n w_i) or ceil(n w_i); the last particle takes the positions left by
-// rounding. idx (n+1, all zero) is workspace and is left all zero.
+// n/scale and C_i = scale·(w_0+...+w_i), position j+u (j = 0..n-1) selects
+// the particle i with C_{i-1} < j+u <= C_i. Particle i thus starts at
+// position s_i = floor(C_{i-1}-u+1) (s_0 = 0) and has s_{i+1}-s_i
+// offspring, which is floor(n w_i) or ceil(n w_i); the last particle takes
+// the positions left by rounding. idx (n+1, all zero) is workspace and is
+// left all zero.
 //
-// It runs without data-dependent branches: one pass stores i at idx[s_i]
-// (a later particle with the same start overwrites one with no offspring;
-// idx[n] absorbs starts at n), and one pass takes the running maximum of
-// idx as the parent of each position and copies it.
+// It runs without data-dependent branches. As the s_i do not decrease, the
+// parent of position j is the number of i >= 1 with s_i <= j: one pass
+// counts the starts at each position (idx[n] takes starts at n), and one
+// pass sums the counts as it copies the parents.
 func systematicResample(dst, src, w []float64, idx []int32, d int, scale, u float64) {
 	n := len(w)
 	idx = idx[:n+1]
 	var c float64
 	for i := 1; i < n; i++ {
 		c += w[i-1] * scale
-		s := min(int(c-u+1), n)
-		idx[s] = int32(i)
+		idx[min(int(c-u+1), n)]++
 	}
 	var p int32
 	if d == 1 {
 		dst, src = dst[:n], src[:n]
 		for j := range dst {
-			p = max(p, idx[j])
+			p += idx[j]
 			idx[j] = 0
 			dst[j] = src[p]
 		}
@@ -688,7 +727,7 @@ func systematicResample(dst, src, w []float64, idx []int32, d int, scale, u floa
 		return
 	}
 	for j := 0; j < n; j++ {
-		p = max(p, idx[j])
+		p += idx[j]
 		idx[j] = 0
 		copy(dst[j*d:j*d+d], src[int(p)*d:int(p)*d+d])
 	}

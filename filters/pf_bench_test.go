@@ -7,6 +7,7 @@ import (
 	"testing"
 
 	"github.com/estbench/estbench/filters"
+	"github.com/estbench/estbench/filters/filtertest"
 )
 
 // ungmModel is the univariate nonstationary growth model
@@ -94,6 +95,48 @@ func BenchmarkPF(b *testing.B) {
 				}
 				z[0] = zs[k]
 				if err := f.Update(z[:], k); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(n), "ns/particle-step")
+		})
+	}
+}
+
+// BenchmarkPFGeneral times a step of the general (vector) path on the
+// linear CV2D model (Nx = 4, Nz = 2).
+func BenchmarkPFGeneral(b *testing.B) {
+	m := filtertest.CV2D(0.5, 4)
+	x0, p0 := filtertest.CV2DPrior()
+	const steps = 200
+	_, zs := filtertest.Simulate(m, x0, steps, rand.New(rand.NewPCG(1, 2)))
+	for _, n := range []int{1000, 10000} {
+		b.Run(fmt.Sprintf("problem=cv2d/particles=%d", n), func(b *testing.B) {
+			f, err := filters.NewPF(m, filters.PFConfig{Particles: n})
+			if err != nil {
+				b.Fatal(err)
+			}
+			rng := rand.New(rand.NewPCG(3, 4))
+			if err := f.Reset(x0, p0, rng); err != nil {
+				b.Fatal(err)
+			}
+			k := 0
+			b.ReportAllocs()
+			b.ResetTimer()
+			for i := 0; i < b.N; i++ {
+				k++
+				if k > steps {
+					b.StopTimer()
+					k = 1
+					if err := f.Reset(x0, p0, rng); err != nil {
+						b.Fatal(err)
+					}
+					b.StartTimer()
+				}
+				if err := f.Predict(k); err != nil {
+					b.Fatal(err)
+				}
+				if err := f.Update(zs[k-1], k); err != nil {
 					b.Fatal(err)
 				}
 			}

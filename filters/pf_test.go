@@ -336,14 +336,14 @@ func TestPFSystematicResample(t *testing.T) {
 
 // The weight exponential agrees with the standard library's math.Exp
 // (accurate to under 1 ulp per its documentation) to 4 ulp down to
-// -346.5, and is zero below -346.6 (about 2^-500) and for -Inf; NaN stays
-// NaN.
+// -346.5, and is zero from -346.6 (about 2^-500) down to the floor of the
+// log-weights, -1e13; NaN stays NaN.
 func TestPFWeightExp(t *testing.T) {
 	var lw, w []float64
 	for x := 0.0; x >= -346.5; x -= 0.0137 {
 		lw = append(lw, x)
 	}
-	lw = append(lw, -1e-300, -5e-324, math.Inf(-1), -346.6, -400, -1e300, math.NaN())
+	lw = append(lw, -1e-300, -5e-324, -346.6, -400, -1e6, -3.3e12, -1e13, math.NaN())
 	w = make([]float64, len(lw))
 	sum, sum2 := filters.ExpShift(w, lw, 0)
 	xs := make([]float64, len(lw))
@@ -607,6 +607,17 @@ func TestPFDegenerateWeights(t *testing.T) {
 	}
 	if e := f.ESS(); e < 1 || e > 1.5 {
 		t.Errorf("far measurement: ESS %v, want about 1", e)
+	}
+	// Beyond the floor of the log-weights (a residual of 10⁸ against
+	// R = 1) no particle explains z.
+	if err := f.Predict(2); err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Update([]float64{1e8}, 2); !errors.Is(err, filters.ErrWeightsZero) {
+		t.Errorf("measurement beyond the floor: %v, want ErrWeightsZero", err)
+	}
+	if err := f.Reset([]float64{0}, []float64{5}, rand.New(rand.NewPCG(1, 1))); err != nil {
+		t.Fatal(err)
 	}
 
 	// H is NaN for x > 0: only particles with x <= 0 keep weight, so the
