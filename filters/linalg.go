@@ -1,6 +1,9 @@
 package filters
 
-import "math"
+import (
+	"errors"
+	"math"
+)
 
 // Small dense row-major linear algebra for the fixed sizes filters use.
 // None of these functions allocate. dst never aliases an input unless said.
@@ -159,3 +162,267 @@ func identity(a []float64, n int) {
 
 // WrapAngle maps an angle in radians to (-pi, pi].
 func WrapAngle(a float64) float64 { return wrapAngle(a) }
+
+// semiChol writes into l (n x n, upper triangle zeroed) a lower triangular
+// factor of the symmetric positive semi-definite matrix a, with l lᵀ = a:
+// the Cholesky factor, except that a pivot at most 1e-12 times the largest
+// diagonal entry is taken as zero and gives a zero column (a noise
+// covariance with noise-free components, or of rank one per axis as the
+// discrete white-noise acceleration model's). The entries below such a
+// pivot must then be at most 1e-6 times the largest diagonal entry (for a
+// PSD matrix they are bounded by sqrt(pivot · diagonal)). It reports false
+// if a is not PSD by that test or has non-finite entries. l must not alias a.
+func semiChol(l, a []float64, n int) bool {
+	var dmax float64
+	for i := 0; i < n; i++ {
+		d := a[i*n+i]
+		if !(d >= 0) || math.IsInf(d, 0) {
+			return false
+		}
+		dmax = max(dmax, d)
+	}
+	tol, offTol := 1e-12*dmax, 1e-6*dmax
+	for j := 0; j < n; j++ {
+		for i := 0; i < j; i++ {
+			l[i*n+j] = 0
+		}
+		s := a[j*n+j]
+		for k := 0; k < j; k++ {
+			s -= l[j*n+k] * l[j*n+k]
+		}
+		if s <= tol {
+			if s < -tol {
+				return false
+			}
+			l[j*n+j] = 0
+			for i := j + 1; i < n; i++ {
+				t := a[i*n+j]
+				for k := 0; k < j; k++ {
+					t -= l[i*n+k] * l[j*n+k]
+				}
+				if !(math.Abs(t) <= offTol) {
+					return false
+				}
+				l[i*n+j] = 0
+			}
+			continue
+		}
+		d := math.Sqrt(s)
+		l[j*n+j] = d
+		inv := 1 / d
+		for i := j + 1; i < n; i++ {
+			t := a[i*n+j]
+			for k := 0; k < j; k++ {
+				t -= l[i*n+k] * l[j*n+k]
+			}
+			l[i*n+j] = t * inv
+		}
+	}
+	return allFinite(l[:n*n])
+}
+
+// lqLower triangularises the n x m matrix a (row-major, m >= n) in place by
+// Householder reflections applied from the right, a = [L 0] Q with Q
+// orthogonal, and copies the lower triangular L (n x n, upper triangle
+// zeroed, diagonal >= 0) into l. Then l lᵀ = a aᵀ: this is the "qr" step of
+// square-root filters (the R factor of the QR decomposition of aᵀ is lᵀ),
+// done on rows so that the row-major compound matrix needs no transpose.
+// Each reflection is H = I − τ v vᵀ with v = x − α e₁, α = −sign(x₁)‖x‖,
+// τ = 2/(vᵀv) (Golub & Van Loan 2013, "Matrix Computations", 4th ed.,
+// §5.1.2). The norm is scaled by the largest entry against overflow.
+// l must not alias a.
+func lqLower(l, a []float64, n, m int) {
+	for i := 0; i < n; i++ {
+		x := a[i*m+i : i*m+m]
+		var amax float64
+		for _, v := range x {
+			amax = max(amax, math.Abs(v))
+		}
+		if amax == 0 {
+			continue // row already zero beyond the diagonal
+		}
+		var ss float64
+		for _, v := range x {
+			v /= amax
+			ss += v * v
+		}
+		sigma := amax * math.Sqrt(ss)
+		alpha := -sigma
+		if x[0] < 0 {
+			alpha = sigma
+		}
+		x[0] -= alpha // x is now v
+		// vᵀv = 2σ(σ + |x₁|) = −2α·v₁ with v₁ = x₁ − α.
+		tau := 1 / (-alpha * x[0])
+		for r := i + 1; r < n; r++ {
+			y := a[r*m+i : r*m+m][:len(x)]
+			var s float64
+			for j, v := range x {
+				s += y[j] * v
+			}
+			s *= tau
+			for j, v := range x {
+				y[j] -= s * v
+			}
+		}
+		x[0] = alpha
+		for j := 1; j < len(x); j++ {
+			x[j] = 0
+		}
+	}
+	for i := 0; i < n; i++ {
+		neg := a[i*m+i] < 0 // flip column i so the diagonal is >= 0
+		for r := 0; r < n; r++ {
+			v := 0.0
+			if r >= i {
+				v = a[r*m+i]
+				if neg {
+					v = -v
+				}
+			}
+			l[r*n+i] = v
+		}
+	}
+}
+
+// cholUpdate replaces the lower Cholesky factor l (n x n, diagonal >= 0) of
+// A by that of A + x xᵀ, by a Givens rotation of each column of l with x
+// (Golub & Van Loan 2013, §6.5.4). x is overwritten.
+func cholUpdate(l, x []float64, n int) {
+	for k := 0; k < n; k++ {
+		xk := x[k]
+		if xk == 0 {
+			continue
+		}
+		lkk := l[k*n+k]
+		r := math.Hypot(lkk, xk)
+		c, s := lkk/r, xk/r
+		l[k*n+k] = r
+		for i := k + 1; i < n; i++ {
+			lik := l[i*n+k]
+			l[i*n+k] = c*lik + s*x[i]
+			x[i] = c*x[i] - s*lik
+		}
+	}
+}
+
+// cholDowndate replaces the lower Cholesky factor l (n x n) of A by that of
+// A − x xᵀ, by hyperbolic rotations (Golub & Van Loan 2013, §6.5.4). It
+// reports false, leaving l partly changed, if A − x xᵀ is not positive
+// definite (a pivot L_kk² − x_k² is not positive). x is overwritten.
+func cholDowndate(l, x []float64, n int) bool {
+	for k := 0; k < n; k++ {
+		xk := x[k]
+		if xk == 0 {
+			continue
+		}
+		lkk := l[k*n+k]
+		r2 := (lkk - xk) * (lkk + xk)
+		if !(r2 > 0) || !(lkk > 0) || math.IsInf(r2, 0) {
+			return false
+		}
+		r := math.Sqrt(r2)
+		c, s := r/lkk, xk/lkk
+		l[k*n+k] = r
+		ic := 1 / c
+		for i := k + 1; i < n; i++ {
+			lik := (l[i*n+k] - s*x[i]) * ic
+			l[i*n+k] = lik
+			x[i] = c*x[i] - s*lik
+		}
+	}
+	return true
+}
+
+// mulLLt sets dst (n x n) = l lᵀ for a lower triangular l. dst must not
+// alias l.
+func mulLLt(dst, l []float64, n int) {
+	for i := 0; i < n; i++ {
+		li := l[i*n : i*n+i+1]
+		for j := 0; j <= i; j++ {
+			lj := l[j*n : j*n+j+1]
+			var s float64
+			for k, v := range lj {
+				s += li[k] * v
+			}
+			dst[i*n+j] = s
+			dst[j*n+i] = s
+		}
+	}
+}
+
+// Jitter repair of a failed Cholesky factorization; see jitter.chol.
+const (
+	// DefaultJitterMax is the largest relative jitter tried when a
+	// config's JitterMax is zero.
+	DefaultJitterMax = 1e-3
+	// jitterTiny keeps the jitter positive when the trace is zero: the
+	// smallest positive normal float64.
+	jitterTiny = 0x1p-1022
+)
+
+// jitter is the optional repair of a covariance whose Cholesky
+// factorization fails, shared by the Gaussian filters: add ε·(tr/n + tiny)·I
+// for ε = eps0, 10·eps0, ... up to epsMax, retrying the factorization after
+// each. It counts the repaired factorizations since Reset. eps0 = 0 turns
+// it off. This is common practice with no single source.
+type jitter struct {
+	eps0, epsMax float64
+	repairs      int
+}
+
+// newJitter checks and resolves the Jitter and JitterMax fields of a config
+// for the filter called name.
+func newJitter(name string, eps0, epsMax float64) (jitter, error) {
+	if epsMax == 0 {
+		epsMax = DefaultJitterMax
+	}
+	if !(eps0 >= 0) || math.IsInf(eps0, 0) || !(epsMax > 0) || math.IsInf(epsMax, 0) {
+		return jitter{}, errors.New("filters: " + name + ": Jitter must be >= 0 and JitterMax positive, both finite")
+	}
+	if eps0 > epsMax {
+		return jitter{}, errors.New("filters: " + name + ": Jitter must not exceed JitterMax")
+	}
+	return jitter{eps0: eps0, epsMax: epsMax}, nil
+}
+
+// chol writes the lower Cholesky factor of a (n x n) into l (l must not
+// alias a). If a is not positive definite and the repair is on, a is
+// changed in place to a + ε·(tr(a)/n + tiny)·I with the smallest
+// ε = eps0·10^j <= epsMax that makes the factorization succeed, and the
+// repair is counted. It reports false if the factorization fails (a is then
+// left as it was).
+func (j *jitter) chol(l, a []float64, n int) bool {
+	if cholesky(l, a, n) {
+		return true
+	}
+	if j.eps0 == 0 {
+		return false
+	}
+	var tr float64
+	for i := 0; i < n; i++ {
+		tr += a[i*n+i]
+	}
+	if math.IsNaN(tr) || math.IsInf(tr, 0) {
+		return false
+	}
+	scale := max(tr/float64(n), 0) + jitterTiny
+	var added float64
+	// The last ε tried is the largest eps0·10^j not above epsMax, allowing
+	// for the rounding of the repeated products.
+	for eps := j.eps0; eps <= j.epsMax*(1+1e-9); eps *= 10 {
+		d := eps*scale - added
+		for i := 0; i < n; i++ {
+			a[i*n+i] += d
+		}
+		added += d
+		if cholesky(l, a, n) {
+			j.repairs++
+			return true
+		}
+	}
+	for i := 0; i < n; i++ {
+		a[i*n+i] -= added
+	}
+	return false
+}

@@ -94,6 +94,13 @@ type ESSer interface {
 	ESS() float64
 }
 
+// Repairer is implemented by Gaussian filters with the optional jitter
+// repair of a covariance whose Cholesky factorization failed: the number of
+// repaired factorizations since the last Reset.
+type Repairer interface {
+	Repairs() int
+}
+
 // Additive reports whether both noises enter additively.
 func (m *Model) Additive() bool { return m.FW == nil && m.HV == nil }
 

@@ -162,3 +162,111 @@ func TestUKFAngleInnovationWrapped(t *testing.T) {
 		checkWestInnovation(t, newUKF(t, ctRangeBearing(), cfg), 1e-4)
 	}
 }
+
+// The other sigma-point sets equal the Kalman filter on the linear-Gaussian
+// model too: each matches the mean and covariance of the Gaussian it is
+// drawn from, which is all a linear map needs (the symmetric set: Julier &
+// Uhlmann 1997; the spherical simplex set: Julier 2003, "The spherical
+// simplex unscented transformation"). Kappa −1 is the n + κ = 3 rule of
+// Julier & Uhlmann 1997 for n = 4; W0 0.5 a heavy centre. Tolerance 1e-9
+// as for the default set (all pass at 1e-12 when tried).
+func TestUKFPointSetsEqualKF(t *testing.T) {
+	for _, cfg := range []filters.UKFConfig{
+		{Points: filters.PointsSymmetric},
+		{Points: filters.PointsSymmetric, Kappa: -1},
+		{Points: filters.PointsSymmetric, Kappa: 2},
+		{Points: filters.PointsSimplex},
+		{Points: filters.PointsSimplex, W0: 0.5},
+	} {
+		t.Run(fmt.Sprintf("points=%s/kappa=%g/w0=%g", cfg.Points, cfg.Kappa, cfg.W0), func(t *testing.T) {
+			filtertest.EqualsKF(t, func(m *filters.Model) filters.Filter {
+				return newUKF(t, m, cfg)
+			}, 1e-9)
+		})
+	}
+}
+
+// The augmented UKF (state augmented with the process noise in Predict and
+// the measurement noise in Update; Wan & van der Merwe 2000, §4) is exact
+// on a linear-Gaussian model as well: the augmented set matches the joint
+// Gaussian of state and noise, and the model is linear in both. CV2D's Q
+// is singular (rank one per axis), so this also checks the zero columns of
+// its square root. Tolerances as in TestUKFEqualsKF.
+func TestUKFAugmentedEqualsKF(t *testing.T) {
+	for _, cfg := range append(ukfConfigs,
+		filters.UKFConfig{Points: filters.PointsSymmetric},
+		filters.UKFConfig{Points: filters.PointsSimplex, W0: 0.25}) {
+		cfg.Augment = true
+		tol := 1e-9
+		if cfg.Alpha < 0.01 && cfg.Alpha != 0 {
+			tol = 5e-9
+		}
+		t.Run(fmt.Sprintf("points=%s/alpha=%g/beta=%g/kappa=%g", cfg.Points, cfg.Alpha, cfg.Beta, cfg.Kappa), func(t *testing.T) {
+			filtertest.EqualsKF(t, func(m *filters.Model) filters.Filter {
+				f := newUKF(t, m, cfg)
+				if w, v := f.Augmented(); !w || !v {
+					t.Fatalf("Augmented() = %v, %v with Augment set", w, v)
+				}
+				return f
+			}, tol)
+		})
+	}
+}
+
+// A model whose noise is given as an argument (FW, HV) but is in fact
+// additive, x' = A x + w and z = C x + v: the UKF augments automatically
+// and still equals the Kalman filter on the same model written additively.
+func TestUKFNonAdditiveModelEqualsKF(t *testing.T) {
+	filtertest.EqualsKF(t, func(m *filters.Model) filters.Filter {
+		mm := *m
+		mm.FMany, mm.HMany = nil, nil
+		mm.Nw, mm.Nv = m.Nx, m.Nz
+		mm.FW = func(dst, x, w []float64, k int) {
+			m.F(dst, x, k)
+			for i := range dst {
+				dst[i] += w[i]
+			}
+		}
+		mm.HV = func(dst, x, v []float64, k int) {
+			m.H(dst, x, k)
+			for i := range dst {
+				dst[i] += v[i]
+			}
+		}
+		f := newUKF(t, &mm, filters.UKFConfig{})
+		if w, v := f.Augmented(); !w || !v {
+			t.Fatalf("Augmented() = %v, %v for a model with FW and HV", w, v)
+		}
+		return f
+	}, 1e-9)
+}
+
+func TestUKFPointSetsNoAllocs(t *testing.T) {
+	ct := ctRangeBearing()
+	cx, cp := ctPrior()
+	for _, cfg := range []filters.UKFConfig{
+		{Points: filters.PointsSymmetric},
+		{Points: filters.PointsSimplex, W0: 0.2},
+		{Augment: true},
+		{Points: filters.PointsSimplex, Augment: true},
+	} {
+		filtertest.NoAllocs(t, newUKF(t, ct, cfg), ct, cx, cp, nil)
+		filtertest.HandlesMissing(t, newUKF(t, ct, cfg), ct, cx, cp)
+	}
+}
+
+func TestUKFConfigErrors(t *testing.T) {
+	m := ctRangeBearing()
+	for _, bad := range []filters.UKFConfig{
+		{Points: "sphere"},
+		{Points: filters.PointsSimplex, W0: 1},
+		{Points: filters.PointsSimplex, W0: -0.1},
+		{Points: filters.PointsSymmetric, Kappa: -5},
+		{Jitter: -1},
+		{Jitter: 1e-2, JitterMax: 1e-3},
+	} {
+		if _, err := filters.NewUKF(m, bad); err == nil {
+			t.Errorf("NewUKF(%+v) accepted an invalid config", bad)
+		}
+	}
+}

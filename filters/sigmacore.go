@@ -1,0 +1,320 @@
+package filters
+
+// spCore is the sigma-point Gaussian filter shared by UKF, CKF and GHKF;
+// they differ in the point set only. See UKF for the algorithm.
+type spCore struct {
+	m      *Model
+	nx, nz int
+
+	// Noise augmentation: Predict draws points of [x; w] (dimension nx+nw)
+	// and Update of [x; v] (nx+nv) when set. A model with additive noise
+	// can be augmented too (forced): its FW is then F(x) + w.
+	augW, augV bool
+	nw, nv     int
+
+	sp, su sigmaSet // the point sets of Predict and Update
+	jit    jitter
+
+	x []float64 // mean (nx)
+	p []float64 // covariance (nx*nx)
+
+	hasInnov bool // the last Update had a measurement and succeeded
+
+	// workspace, sized at set-up, reused every step
+	lw   []float64 // lower square root of Q, nw x nw, set at Reset (augW)
+	lv   []float64 // lower square root of R, nv x nv, set at Reset (augV)
+	l    []float64 // Cholesky factor of P (nx*nx)
+	la   []float64 // diag(L, lw or lv), na x na (augmented steps only)
+	dxT  []float64 // deviations L uᵢ of the points, transposed: na x np
+	pts  []float64 // sigma points, np x na
+	ys   []float64 // propagated points, np x nx
+	zs   []float64 // point measurements, np x nz
+	dt   []float64 // deviations from a mean, transposed: max(nx,nz) x np
+	e    []float64 // dxᵢ − K dzᵢ, transposed: nx x np
+	zhat []float64 // predicted measurement (nz)
+	nu   []float64 // innovation, angles wrapped (nz)
+	s    []float64 // innovation covariance S (nz*nz)
+	ls   []float64 // Cholesky factor of S (nz*nz)
+	pxz  []float64 // cross covariance Pxz (nx*nz)
+	k    []float64 // gain K (nx*nz)
+	kr   []float64 // K R (nx*nz)
+	krk  []float64 // K R Kᵀ (nx*nx)
+}
+
+// setSets is a constructor of the point set for dimension n.
+type setMaker func(n int) (sigmaSet, error)
+
+// init sizes the core for m with the sets made by mk; augment forces the
+// augmented form for additive noise as well.
+func (c *spCore) init(m *Model, mk setMaker, augment bool, jit jitter) error {
+	nx, nz := m.Nx, m.Nz
+	c.m, c.nx, c.nz, c.jit = m, nx, nz, jit
+	c.augW = m.FW != nil || augment
+	c.augV = m.HV != nil || augment
+	np, na := nx, nx
+	if c.augW {
+		c.nw = nx
+		if m.FW != nil {
+			c.nw = m.Nw
+		}
+		na = nx + c.nw
+	}
+	var err error
+	if c.sp, err = mk(na); err != nil {
+		return err
+	}
+	nu := nx
+	if c.augV {
+		c.nv = nz
+		if m.HV != nil {
+			c.nv = m.Nv
+		}
+		nu = nx + c.nv
+	}
+	if c.su, err = mk(nu); err != nil {
+		return err
+	}
+	na = max(na, nu)
+	np = max(c.sp.np, c.su.np)
+	rows := max(nx, nz)
+	c.sp.reserve(rows)
+	c.su.reserve(rows)
+	c.x = make([]float64, nx)
+	c.p = make([]float64, nx*nx)
+	c.lw = make([]float64, c.nw*c.nw)
+	c.lv = make([]float64, c.nv*c.nv)
+	c.l = make([]float64, nx*nx)
+	c.la = make([]float64, na*na)
+	c.dxT = make([]float64, na*np)
+	c.pts = make([]float64, np*na)
+	c.ys = make([]float64, np*nx)
+	c.zs = make([]float64, np*nz)
+	c.dt = make([]float64, rows*np)
+	c.e = make([]float64, nx*np)
+	c.zhat = make([]float64, nz)
+	c.nu = make([]float64, nz)
+	c.s = make([]float64, nz*nz)
+	c.ls = make([]float64, nz*nz)
+	c.pxz = make([]float64, nx*nz)
+	c.k = make([]float64, nx*nz)
+	c.kr = make([]float64, nx*nz)
+	c.krk = make([]float64, nx*nx)
+	return nil
+}
+
+func (c *spCore) reset(x0, p0 []float64) error {
+	if len(x0) != c.nx || len(p0) != c.nx*c.nx {
+		panic("filters: dimension mismatch")
+	}
+	copy(c.x, x0)
+	copy(c.p, p0)
+	symmetrize(c.p, c.nx)
+	c.hasInnov = false
+	c.jit.repairs = 0
+	if !allFinite(c.x) || !allFinite(c.p) {
+		return ErrNonFinite
+	}
+	if c.augW && !semiChol(c.lw, c.m.Q, c.nw) {
+		return ErrNotPosDef
+	}
+	if c.augV && !semiChol(c.lv, c.m.R, c.nv) {
+		return ErrNotPosDef
+	}
+	return nil
+}
+
+// draw factors P (with the jitter repair, if on) and writes the points of
+// set s into c.pts and their deviations into c.dxT; with aug, the state is
+// augmented by noise of square root lq (nq x nq).
+func (c *spCore) draw(s *sigmaSet, aug bool, lq []float64, nq int) bool {
+	nx := c.nx
+	if !c.jit.chol(c.l, c.p, nx) {
+		return false
+	}
+	la := c.l
+	if aug {
+		na := nx + nq
+		la = c.la[:na*na]
+		for i := range la {
+			la[i] = 0
+		}
+		for r := 0; r < nx; r++ {
+			copy(la[r*na:r*na+nx], c.l[r*nx:r*nx+nx])
+		}
+		for r := 0; r < nq; r++ {
+			copy(la[(nx+r)*na+nx:(nx+r)*na+na], lq[r*nq:r*nq+nq])
+		}
+	}
+	s.devTo(c.dxT, la)
+	s.pointsTo(c.pts, c.x, c.dxT)
+	return true
+}
+
+func (c *spCore) predict(k int) error {
+	nx := c.nx
+	s := &c.sp
+	c.hasInnov = false
+	if !c.draw(s, c.augW, c.lw, c.nw) {
+		return ErrNotPosDef
+	}
+	m := c.m
+	switch {
+	case c.augW:
+		na := s.n
+		for i := 0; i < s.np; i++ {
+			pt, y := c.pts[i*na:i*na+na], c.ys[i*nx:i*nx+nx]
+			if m.FW != nil {
+				m.FW(y, pt[:nx], pt[nx:], k)
+				continue
+			}
+			m.F(y, pt[:nx], k)
+			for j := range y {
+				y[j] += pt[nx+j]
+			}
+		}
+	case m.FMany != nil:
+		m.FMany(c.ys[:s.np*nx], c.pts[:s.np*nx], k)
+	default:
+		for i := 0; i < s.np; i++ {
+			m.F(c.ys[i*nx:(i+1)*nx], c.pts[i*nx:(i+1)*nx], k)
+		}
+	}
+	s.mean(c.x, c.ys, nx, m.AngleState)
+	s.deviate(c.dt, c.ys, c.x, nx, m.AngleState)
+	s.cov(c.p, c.dt, nx)
+	if !c.augW {
+		for i, q := range m.Q {
+			c.p[i] += q
+		}
+	}
+	symmetrize(c.p, nx)
+	if !allFinite(c.x) || !allFinite(c.p) {
+		return ErrNonFinite
+	}
+	return nil
+}
+
+func (c *spCore) update(z []float64, k int) error {
+	c.hasInnov = false
+	if z == nil {
+		return nil
+	}
+	nx, nz := c.nx, c.nz
+	if len(z) != nz {
+		panic("filters: dimension mismatch")
+	}
+	s := &c.su
+	np := s.np
+	if !c.draw(s, c.augV, c.lv, c.nv) {
+		return ErrNotPosDef
+	}
+	m := c.m
+	switch {
+	case c.augV:
+		na := s.n
+		for i := 0; i < np; i++ {
+			pt, y := c.pts[i*na:i*na+na], c.zs[i*nz:i*nz+nz]
+			if m.HV != nil {
+				m.HV(y, pt[:nx], pt[nx:], k)
+				continue
+			}
+			m.H(y, pt[:nx], k)
+			for j := range y {
+				y[j] += pt[nx+j]
+			}
+		}
+	case m.HMany != nil:
+		m.HMany(c.zs[:np*nz], c.pts[:np*nx], k)
+	default:
+		for i := 0; i < np; i++ {
+			m.H(c.zs[i*nz:(i+1)*nz], c.pts[i*nx:(i+1)*nx], k)
+		}
+	}
+	s.mean(c.zhat, c.zs, nz, m.AngleMeas)
+	s.deviate(c.dt, c.zs, c.zhat, nz, m.AngleMeas)
+	s.cov(c.s, c.dt, nz)
+	if !c.augV {
+		for i, r := range m.R {
+			c.s[i] += r
+		}
+	}
+	symmetrize(c.s, nz)
+	if !c.jit.chol(c.ls, c.s, nz) {
+		return ErrNotPosDef
+	}
+	// The state rows of the deviations are the first nx rows of dxT.
+	s.cross(c.pxz, c.dxT, c.dt, nx, nz)
+	copy(c.k, c.pxz)
+	cholSolveRowsT(c.ls, c.k, nx, nz)
+
+	for i := range c.nu {
+		c.nu[i] = z[i] - c.zhat[i]
+	}
+	for _, i := range m.AngleMeas {
+		c.nu[i] = wrapAngle(c.nu[i])
+	}
+	for i := 0; i < nx; i++ {
+		ki := c.k[i*nz : i*nz+nz]
+		var d float64
+		for j, kv := range ki {
+			d += kv * c.nu[j]
+		}
+		c.x[i] += d
+	}
+	for _, i := range m.AngleState {
+		c.x[i] = wrapAngle(c.x[i])
+	}
+
+	// Joseph form for sigma points: P = Σ Wcᵢ eᵢ eᵢᵀ + K R Kᵀ with
+	// eᵢ = dxᵢ − K dzᵢ (K R Kᵀ is inside the sum when v is augmented).
+	for r := 0; r < nx; r++ {
+		kr := c.k[r*nz : r*nz+nz]
+		dx := c.dxT[r*np : r*np+np]
+		er := c.e[r*np : r*np+np]
+		copy(er, dx)
+		for j, kv := range kr {
+			dz := c.dt[j*np : j*np+np]
+			for i, v := range dz {
+				er[i] -= kv * v
+			}
+		}
+	}
+	s.cov(c.p, c.e, nx)
+	if !c.augV {
+		mul(c.kr, c.k, m.R, nx, nz, nz)
+		abt(c.krk, c.kr, c.k, nx, nz, nx, true)
+		for i, v := range c.krk {
+			c.p[i] += v
+		}
+	}
+	symmetrize(c.p, nx)
+	if !allFinite(c.x) || !allFinite(c.p) {
+		return ErrNonFinite
+	}
+	c.hasInnov = true
+	return nil
+}
+
+func (c *spCore) estimateTo(x, p []float64) {
+	if len(x) != c.nx || (p != nil && len(p) != c.nx*c.nx) {
+		panic("filters: dimension mismatch")
+	}
+	copy(x, c.x)
+	if p != nil {
+		copy(p, c.p)
+	}
+}
+
+func (c *spCore) innovationTo(nu, s []float64) bool {
+	if len(nu) != c.nz || (s != nil && len(s) != c.nz*c.nz) {
+		panic("filters: dimension mismatch")
+	}
+	if !c.hasInnov {
+		return false
+	}
+	copy(nu, c.nu)
+	if s != nil {
+		copy(s, c.s)
+	}
+	return true
+}
