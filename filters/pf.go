@@ -91,7 +91,7 @@ type PF struct {
 
 	// workspace, sized in NewPF, reused every step
 	zh  []float64 // predicted measurements H(x_i), n*Nz
-	idx []int32   // resampling: parent starting at each position, n+1
+	idx []int32   // resampling: number of parents starting at each position, n+1
 	zm  []float64 // weighted mean of zh, Nz
 	r   []float64 // one residual, max(Nx, Nz)
 	e   []float64 // one standard normal draw, Nx
@@ -100,8 +100,15 @@ type PF struct {
 	res []float64 // residuals of the points of a weighted moment, n*max(Nx, Nz)
 }
 
-// NewPF returns a bootstrap particle filter for m. It returns ErrNotPosDef
-// if Q is not positive semi-definite or R is not positive definite.
+var (
+	_ Filter    = (*PF)(nil)
+	_ Innovator = (*PF)(nil)
+	_ ESSer     = (*PF)(nil)
+)
+
+// NewPF returns a bootstrap particle filter for m; Q and R are factored
+// here, once. It returns ErrNotPosDef if Q is not positive semi-definite or
+// R is not positive definite.
 func NewPF(m *Model, cfg PFConfig) (*PF, error) {
 	m.check()
 	n := cfg.Particles

@@ -15,10 +15,11 @@ import (
 //	x_k = x_{k-1}/2 + 25 x_{k-1}/(1+x_{k-1}²) + 8 cos(1.2 k) + v_k,  v_k ~ N(0, 10)
 //	z_k = x_k²/20 + w_k,                                         w_k ~ N(0, 1)
 //
-// of Gordon, Salmond & Smith 1993 (IEE Proc. F 140(2), §4) and Kitagawa
-// 1996 (JCGS 5(1)), in the indexing of Arulampalam, Maskell, Gordon & Clapp
-// 2002 ("A tutorial on particle filters for online nonlinear/non-Gaussian
-// Bayesian tracking", IEEE TSP 50(2), eqs. 80-81). The batch functions hoist
+// of Gordon, Salmond & Smith 1993 (IEE Proc. F 140(2)) and Kitagawa 1996
+// (JCGS 5(1)), with cos(1.2 k) indexed as in Arulampalam, Maskell, Gordon &
+// Clapp 2002 ("A tutorial on particle filters for online
+// nonlinear/non-Gaussian Bayesian tracking", IEEE TSP 50(2), its example
+// section; the indexing is from memory). The batch functions hoist
 // 8 cos(1.2 k) out of the particle loop.
 func ungmModel() *filters.Model {
 	f := func(dst, x []float64, k int) {

@@ -52,8 +52,9 @@ func scalarRW(q, r float64) *filters.Model {
 // covariances were those of N independent draws from the kf posterior
 // (predictive): for the sample covariance of N Gaussian draws
 // E‖Ŝ − P‖²_F = (tr(P)² + ‖P‖²_F)/N (Anderson 2003, "An Introduction to
-// Multivariate Statistical Analysis", 3rd ed., §7.2: Cov(s_ij, s_kl) =
-// (σ_ik σ_jl + σ_il σ_jk)/N for the Wishart), evaluated at the last step.
+// Multivariate Statistical Analysis", 3rd ed., ch. 7 (chapter from
+// memory): Cov(s_ij, s_kl) = (σ_ik σ_jl + σ_il σ_jk)/N for the Wishart),
+// evaluated at the last step.
 // For means, N iid draws give E[mean] = nx/N and E[nu] = nz/N exactly.
 type gap struct {
 	mean, nu, cov, s float64
@@ -178,8 +179,8 @@ func slope(x, y []float64) float64 {
 // the particle filter's estimates converge to it at the Monte Carlo rate:
 // N·E|m_pf − m_kf|² tends to a finite asymptotic variance (Chopin 2004,
 // "Central limit theorem for sequential Monte Carlo methods and its
-// application to Bayesian inference", Ann. Statist. 32(6), Theorem 1; Del
-// Moral 2004, "Feynman-Kac Formulae", ch. 9). So every gap should fall like
+// application to Bayesian inference", Ann. Statist. 32(6); Del Moral 2004,
+// "Feynman-Kac Formulae", Springer). So every gap should fall like
 // 1/N: the fitted log-log slope over N = 100, 1000, 10000 must lie in
 // [-1.3, -0.7] (the spread allows for Monte Carlo noise; common practice,
 // no source). At N = 10000 each gap must also be within a fixed factor of
@@ -246,7 +247,8 @@ func TestPFApproachesKF(t *testing.T) {
 // Systematic resampling gives particle i either floor(N w_i) or
 // ceil(N w_i) offspring, and N w_i on average over the uniform offset
 // (Douc, Cappé & Moulines 2005, "Comparison of resampling schemes for
-// particle filtering", ISPA, §2.4; Kitagawa 1996, JCGS 5(1), Appendix). The
+// particle filtering", ISPA; Kitagawa 1996, "Monte Carlo filter and
+// smoother for non-Gaussian nonlinear state space models", JCGS 5(1)). The
 // count is ceil(N w_i) with probability frac(N w_i) = f, so its mean over M
 // offsets has standard error sqrt(f(1-f)/M); we allow 4.5 of them.
 func TestPFSystematicResample(t *testing.T) {
@@ -407,8 +409,8 @@ func ulp(x float64) float64 {
 // and the filter's variances at each step.
 func ungmRun(t *testing.T, f *filters.PF, m *filters.Model, data, pfRNG *rand.Rand, steps int) (se, pv []float64) {
 	t.Helper()
-	// Prior x0 ~ N(0, 5), as Gordon, Salmond & Smith 1993, §4 (from
-	// memory); the filter is given the same prior.
+	// Prior x0 ~ N(0, 5), as in the UNGM example of Gordon, Salmond &
+	// Smith 1993 (from memory); the filter is given the same prior.
 	x0 := math.Sqrt(5) * data.NormFloat64()
 	xs, zs := ungmSimulate(m, x0, steps, data)
 	if err := f.Reset([]float64{0}, []float64{5}, pfRNG); err != nil {
@@ -436,15 +438,18 @@ func ungmRun(t *testing.T, f *filters.PF, m *filters.Model, data, pfRNG *rand.Ra
 //
 //   - The RMSE lies in [3, 6.5]. From memory: bootstrap-filter RMSEs of
 //     about 4 to 5.5 are reported for this model (Gordon, Salmond & Smith
-//     1993, §4; Arulampalam et al. 2002, §VI), while the EKF's are several
-//     times larger. The floor is there because z = x²/20 does not reveal the
-//     sign of x, so even the exact posterior mean has an RMSE of several
-//     units (we measured 4.7 with 10000 particles over 100 runs).
+//     1993; Arulampalam, Maskell, Gordon & Clapp 2002, "A tutorial on
+//     particle filters for online nonlinear/non-Gaussian Bayesian
+//     tracking", IEEE TSP 50(2), its example section), while the EKF's
+//     are several times larger. The floor is there because z = x²/20 does
+//     not reveal the sign of x, so even the exact posterior mean has an
+//     RMSE of several units (we measured 4.7 with 10000 particles over 100
+//     runs; the bounds are our choice).
 //   - Calibration: for the exact posterior mean m and variance P,
-//     E[(x − m)²] = E[P] (law of total variance; e.g. Bar-Shalom, Li &
-//     Kirubarajan 2001, §1.4.13), so the mean over runs of
-//     (x − m)² − P must be within 4 standard errors of zero, the standard
-//     error taken from the spread of the per-run means.
+//     E[(x − m)²] = E[P] (the law of total variance, a standard identity
+//     of probability), so the mean over runs of (x − m)² − P must be
+//     within 4 standard errors of zero, the standard error taken from the
+//     spread of the per-run means (4 is our choice).
 func TestPFUNGM(t *testing.T) {
 	m := ungmModel()
 	f := newPF(t, m, filters.PFConfig{Particles: 1000})
