@@ -18,7 +18,7 @@ func builtinFilters() []FilterSpec {
 				if !t.Linear {
 					return false, "needs a linear model; {problem} is nonlinear"
 				}
-				return true, ""
+				return additiveOnly(t)
 			},
 			New: func(m *filters.Model, v Values) (filters.Filter, error) {
 				return filters.NewKF(m, filters.KFConfig{})
@@ -34,9 +34,9 @@ func builtinFilters() []FilterSpec {
 			},
 			Applies: func(t datasets.Traits) (bool, string) {
 				if !t.Differentiable {
-					return false, "needs a differentiable model; {problem} is not differentiable"
+					return false, "needs a differentiable model; {problem} " + phrase(t.NonDifferentiable, "is not differentiable")
 				}
-				return true, ""
+				return additiveOnly(t)
 			},
 			New: func(m *filters.Model, v Values) (filters.Filter, error) {
 				return filters.NewEKF(m, filters.EKFConfig{Step: v.Float("diff_step")})
@@ -76,7 +76,15 @@ func builtinFilters() []FilterSpec {
 
 func additiveOnly(t datasets.Traits) (bool, string) {
 	if !t.AdditiveNoise {
-		return false, "needs additive noise; {problem} has non-additive noise"
+		return false, "needs additive noise; {problem} " + phrase(t.NonAdditive, "has non-additive noise")
 	}
 	return true, ""
+}
+
+// phrase returns a problem's own words for a missing trait, or def.
+func phrase(own, def string) string {
+	if own != "" {
+		return own
+	}
+	return def
 }

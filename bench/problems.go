@@ -1,6 +1,7 @@
 package bench
 
 import (
+	"errors"
 	"math"
 
 	"github.com/estbench/estbench/datasets"
@@ -53,6 +54,186 @@ func builtinProblems() []ProblemSpec {
 			Build: func(v Values) (*datasets.Problem, error) {
 				return datasets.NewCTRB(datasets.CTRBConfig{Steps: v.Int("steps"), Dt: v.Float("dt"), Q1: v.Float("q1"), Q2: v.Float("q2"),
 					SigmaR: v.Float("sigma_r"), SigmaTheta: v.Float("sigma_theta")})
+			},
+		},
+		{
+			Name:    "bearings",
+			Summary: "bearings-only tracking of a nearly constant-velocity target from a fixed observer",
+			Source:  "Gordon, Salmond & Smith 1993, IEE Proc. F 140(2), §4 (numbers from memory)",
+			Params: []Param{
+				steps(24),
+				{Name: "sigma_q", Kind: Float, Default: Value{Num: 0.001}, Doc: "acceleration noise standard deviation per axis", Min: 1e-12, Max: 1e3},
+				{Name: "sigma_theta", Kind: Float, Default: Value{Num: 0.005}, Doc: "bearing noise standard deviation in rad", Min: 1e-12, Max: 1},
+				{Name: "start", Kind: String, Default: Value{Str: "published"}, Choices: []string{"published", "prior"},
+					Doc: "true initial state: the published fixed start, or drawn from the prior"},
+			},
+			Build: func(v Values) (*datasets.Problem, error) {
+				return datasets.NewBearings(datasets.BearingsConfig{Steps: v.Int("steps"), SigmaQ: v.Float("sigma_q"),
+					SigmaTheta: v.Float("sigma_theta"), DrawStart: v.Str("start") == "prior"})
+			},
+		},
+		{
+			Name:    "reentry",
+			Summary: "re-entry vehicle with unknown ballistic coefficient (5 states), range and bearing from a ground radar",
+			Source:  "Athans, Wishner & Bertolini 1968, IEEE TAC 13(5); set-up of Julier & Uhlmann 2004, Proc. IEEE 92(3), §VI (numbers from memory)",
+			Params: []Param{
+				steps(2000),
+				{Name: "dt", Kind: Float, Default: Value{Num: 0.1}, Doc: "measurement interval in s", Min: 1e-4, Max: 10},
+				{Name: "substeps", Kind: Int, Default: Value{Num: 2}, Doc: "Runge-Kutta substeps per interval", Min: 1, Max: 1000},
+				{Name: "q", Kind: Float, Default: Value{Num: 2.4064e-5}, Doc: "velocity noise variance per interval and axis in km²/s²", Min: 1e-15, Max: 1},
+				{Name: "q5", Kind: Float, Default: Value{Num: 1e-6}, Doc: "noise variance of the ballistic coefficient the filters assume", Min: 1e-15, Max: 1},
+				{Name: "sigma_r", Kind: Float, Default: Value{Num: 1e-3}, Doc: "range noise standard deviation in km", Min: 1e-9, Max: 100},
+				{Name: "sigma_theta", Kind: Float, Default: Value{Num: 17e-3}, Doc: "bearing noise standard deviation in rad", Min: 1e-9, Max: 1},
+			},
+			Build: func(v Values) (*datasets.Problem, error) {
+				return datasets.NewReentry(datasets.ReentryConfig{Steps: v.Int("steps"), Dt: v.Float("dt"), Substeps: v.Int("substeps"),
+					Q: v.Float("q"), Q5: v.Float("q5"), SigmaR: v.Float("sigma_r"), SigmaTheta: v.Float("sigma_theta")})
+			},
+		},
+		{
+			Name:    "pendulum",
+			Summary: "pendulum angle and rate, sine-of-angle measurement",
+			Source:  "Särkkä 2013, Bayesian Filtering and Smoothing, Examples 3.7 and 5.1 (numbers from memory)",
+			Params: []Param{
+				steps(500),
+				{Name: "dt", Kind: Float, Default: Value{Num: 0.01}, Doc: "sampling period in s", Min: 1e-6, Max: 1},
+				{Name: "qc", Kind: Float, Default: Value{Num: 0.01}, Doc: "spectral density of the angular acceleration noise in rad²/s³", Min: 1e-12, Max: 1e6},
+				{Name: "g", Kind: Float, Default: Value{Num: 9.81}, Doc: "gravity over pendulum length in 1/s²", Min: 1e-6, Max: 1e6},
+				{Name: "r", Kind: Float, Default: Value{Num: 0.1}, Doc: "measurement noise variance", Min: 1e-12, Max: 1e6},
+				{Name: "integrator", Kind: String, Default: Value{Str: "euler"}, Choices: []string{"euler", "rk4"},
+					Doc: "discretisation: the book's explicit Euler step, or one Runge-Kutta step"},
+			},
+			Build: func(v Values) (*datasets.Problem, error) {
+				return datasets.NewPendulum(datasets.PendulumConfig{Steps: v.Int("steps"), Dt: v.Float("dt"), Qc: v.Float("qc"),
+					G: v.Float("g"), R: v.Float("r"), RK4: v.Str("integrator") == "rk4"})
+			},
+		},
+		{
+			Name:    "lorenz63",
+			Summary: "Lorenz 1963 chaotic convection (3 states), RK4, partial observations, additive noise",
+			Source:  "Lorenz 1963, J. Atmos. Sci. 20(2); as a filtering test: Miller, Ghil & Gauthiez 1994, J. Atmos. Sci. 51(8)",
+			Params: []Param{
+				steps(200),
+				{Name: "sigma", Kind: Float, Default: Value{Num: 10}, Doc: "Prandtl number σ", Min: 1e-6, Max: 1e3},
+				{Name: "rho", Kind: Float, Default: Value{Num: 28}, Doc: "Rayleigh number ρ", Min: 1e-6, Max: 1e3},
+				{Name: "beta", Kind: Float, Default: Value{Num: 8.0 / 3}, Doc: "geometric factor β", Min: 1e-6, Max: 1e3},
+				{Name: "dt", Kind: Float, Default: Value{Num: 0.05}, Doc: "time between measurements", Min: 1e-6, Max: 10},
+				{Name: "rk_step", Kind: Float, Default: Value{Num: 0.01}, Doc: "Runge-Kutta step (must divide dt)", Min: 1e-6, Max: 1},
+				{Name: "q", Kind: Float, Default: Value{Num: 0.01}, Doc: "process noise variance per step and component", Min: 1e-12, Max: 1e6},
+				{Name: "r", Kind: Float, Default: Value{Num: 2}, Doc: "measurement noise variance per observed component", Min: 1e-12, Max: 1e6},
+				{Name: "observe", Kind: String, Default: Value{Str: "x"}, Choices: []string{"x", "xz", "xyz"}, Doc: "observed components"},
+			},
+			Build: func(v Values) (*datasets.Problem, error) {
+				return datasets.NewLorenz63(datasets.Lorenz63Config{Steps: v.Int("steps"), Sigma: v.Float("sigma"), Rho: v.Float("rho"),
+					Beta: v.Float("beta"), Dt: v.Float("dt"), RKStep: v.Float("rk_step"), Q: v.Float("q"), R: v.Float("r"), Observe: v.Str("observe")})
+			},
+		},
+		{
+			Name:    "lorenz96",
+			Summary: "Lorenz 1996 (40 states), RK4, every other variable observed; an ensemble-filter test",
+			Source:  "Lorenz 1996, Proc. ECMWF Seminar on Predictability; Lorenz & Emanuel 1998, J. Atmos. Sci. 55(3)",
+			Params: []Param{
+				steps(200),
+				{Name: "n", Kind: Int, Default: Value{Num: 40}, Doc: "number of variables", Min: 4, Max: 1000},
+				{Name: "forcing", Kind: Float, Default: Value{Num: 8}, Doc: "forcing F", Min: 1e-6, Max: 100},
+				{Name: "dt", Kind: Float, Default: Value{Num: 0.05}, Doc: "time between measurements (one Runge-Kutta step)", Min: 1e-6, Max: 0.2},
+				{Name: "q", Kind: Float, Default: Value{Num: 0.01}, Doc: "process noise variance per step and variable", Min: 1e-12, Max: 1e6},
+				{Name: "r", Kind: Float, Default: Value{Num: 1}, Doc: "measurement noise variance per observed variable", Min: 1e-12, Max: 1e6},
+			},
+			Build: func(v Values) (*datasets.Problem, error) {
+				return datasets.NewLorenz96(datasets.Lorenz96Config{Steps: v.Int("steps"), N: v.Int("n"), F: v.Float("forcing"),
+					Dt: v.Float("dt"), Q: v.Float("q"), R: v.Float("r")})
+			},
+		},
+		{
+			Name:    "stochvol",
+			Summary: "stochastic volatility: AR(1) log-variance, returns with multiplicative noise (or their log-squares)",
+			Source:  "Kim, Shephard & Chib 1998, Rev. Econ. Stud. 65(3); log-squared form: Harvey, Ruiz & Shephard 1994, Rev. Econ. Stud. 61(2)",
+			Params: []Param{
+				steps(500),
+				{Name: "mu", Kind: Float, Default: Value{Num: 2 * math.Log(0.648)}, Doc: "mean μ of the log-variance", Min: -50, Max: 50},
+				{Name: "phi", Kind: Float, Default: Value{Num: 0.978}, Doc: "persistence φ", Min: -0.9999, Max: 0.9999},
+				{Name: "sigma_eta", Kind: Float, Default: Value{Num: 0.158}, Doc: "log-variance noise standard deviation σ_η", Min: 1e-9, Max: 10},
+				{Name: "observe", Kind: String, Default: Value{Str: "returns"}, Choices: []string{"returns", "logsq"},
+					Doc: "measurement: the return y (non-additive), or log y² (linear, additive log-χ² noise)"},
+			},
+			Build: func(v Values) (*datasets.Problem, error) {
+				if v.Float("phi") == 0 {
+					return nil, errors.New("phi must not be 0 (it would select the default)")
+				}
+				return datasets.NewStochVol(datasets.StochVolConfig{Steps: v.Int("steps"), Beta: math.Exp(v.Float("mu") / 2),
+					Phi: v.Float("phi"), SigmaEta: v.Float("sigma_eta"), LogSquared: v.Str("observe") == "logsq"})
+			},
+		},
+		{
+			Name:    "friction",
+			Summary: "survey cart on rails with Coulomb and viscous friction, speed measurements (our scenario)",
+			Source:  "our scenario; dry (Coulomb) plus viscous friction law, explicit Euler step",
+			Params: []Param{
+				steps(400),
+				{Name: "dt", Kind: Float, Default: Value{Num: 0.1}, Doc: "sampling period in s", Min: 1e-6, Max: 10},
+				{Name: "viscous", Kind: Float, Default: Value{Num: 0.2}, Doc: "viscous friction coefficient in 1/s", Min: 1e-9, Max: 1e3},
+				{Name: "coulomb", Kind: Float, Default: Value{Num: 1}, Doc: "Coulomb friction deceleration in m/s²", Min: 1e-9, Max: 1e3},
+				{Name: "drive", Kind: Float, Default: Value{Num: 2}, Doc: "drive acceleration amplitude in m/s²", Min: 1e-9, Max: 1e3},
+				{Name: "drive_period", Kind: Float, Default: Value{Num: 20}, Doc: "drive period in s", Min: 1e-6, Max: 1e6},
+				{Name: "q", Kind: Float, Default: Value{Num: 0.05}, Doc: "random force spectral density in m²/s³", Min: 1e-12, Max: 1e6},
+				{Name: "r", Kind: Float, Default: Value{Num: 0.01}, Doc: "speed noise variance in m²/s²", Min: 1e-12, Max: 1e6},
+			},
+			Build: func(v Values) (*datasets.Problem, error) {
+				return datasets.NewFriction(datasets.FrictionConfig{Steps: v.Int("steps"), Dt: v.Float("dt"), Viscous: v.Float("viscous"),
+					Coulomb: v.Float("coulomb"), Drive: v.Float("drive"), DrivePeriod: v.Float("drive_period"), Q: v.Float("q"), R: v.Float("r")})
+			},
+		},
+		{
+			Name:    "multnoise",
+			Summary: "stochastic Ricker population map with multiplicative (log-normal) process noise, Gaussian census",
+			Source:  "Ricker 1954, J. Fish. Res. Board Can. 11(5); noise and growth rate of Wood 2010, Nature 466 (from memory)",
+			Params: []Param{
+				steps(100),
+				{Name: "log_r", Kind: Float, Default: Value{Num: 3.8}, Doc: "log growth rate ln r", Min: -19, Max: 19},
+				{Name: "sigma_e", Kind: Float, Default: Value{Num: 0.3}, Doc: "standard deviation of the log-normal noise", Min: 1e-9, Max: 10},
+				{Name: "r", Kind: Float, Default: Value{Num: 0.25}, Doc: "census noise variance", Min: 1e-12, Max: 1e6},
+			},
+			Build: func(v Values) (*datasets.Problem, error) {
+				if v.Float("log_r") == 0 {
+					return nil, errors.New("log_r must not be 0 (it would select the default)")
+				}
+				return datasets.NewRicker(datasets.RickerConfig{Steps: v.Int("steps"), LogR: v.Float("log_r"), SigmaE: v.Float("sigma_e"), R: v.Float("r")})
+			},
+		},
+		{
+			Name:    "heavytail",
+			Summary: "cv2d observed through heavy-tailed noise: glint (Gaussian mixture) or Student t",
+			Source:  "glint: Hewer, Martin & Zeh 1987, IEEE TAES 23(1); contaminated Gaussian: Masreliez & Martin 1977, IEEE TAC 22(3)",
+			Params: []Param{
+				steps(100),
+				{Name: "dt", Kind: Float, Default: Value{Num: 1}, Doc: "sampling period in s", Min: 1e-9, Max: 1e9},
+				{Name: "q", Kind: Float, Default: Value{Num: 1}, Doc: "acceleration noise variance in m²/s⁴", Min: 1e-12, Max: 1e12},
+				{Name: "noise", Kind: String, Default: Value{Str: "glint"}, Choices: []string{"glint", "t"}, Doc: "measurement noise law"},
+				{Name: "sigma", Kind: Float, Default: Value{Num: 10}, Doc: "nominal noise standard deviation (glint) or scale (t) per axis in m", Min: 1e-9, Max: 1e9},
+				{Name: "eps", Kind: Float, Default: Value{Num: 0.1}, Doc: "glint: probability of the wide component", Min: 1e-9, Max: 0.999999},
+				{Name: "ratio", Kind: Float, Default: Value{Num: 10}, Doc: "glint: wide over nominal standard deviation", Min: 1, Max: 1e6},
+				{Name: "nu", Kind: Float, Default: Value{Num: 3}, Doc: "t: degrees of freedom", Min: 2.000001, Max: 1e6},
+			},
+			Build: func(v Values) (*datasets.Problem, error) {
+				return datasets.NewHeavyTail(datasets.HeavyTailConfig{Steps: v.Int("steps"), Dt: v.Float("dt"), Q: v.Float("q"),
+					Noise: v.Str("noise"), Sigma: v.Float("sigma"), Eps: v.Float("eps"), Ratio: v.Float("ratio"), Nu: v.Float("nu")})
+			},
+		},
+		{
+			Name:    "quantised",
+			Summary: "drone altitude from an altimeter quantised to whole steps, noise before the quantiser (our scenario)",
+			Source:  "our scenario; DWNA motion of Bar-Shalom, Li & Kirubarajan 2001, §6.3.2",
+			Params: []Param{
+				steps(100),
+				{Name: "dt", Kind: Float, Default: Value{Num: 1}, Doc: "sampling period in s", Min: 1e-9, Max: 1e9},
+				{Name: "q", Kind: Float, Default: Value{Num: 0.01}, Doc: "vertical acceleration noise variance in m²/s⁴", Min: 1e-12, Max: 1e12},
+				{Name: "step", Kind: Float, Default: Value{Num: 1}, Doc: "quantisation step in m", Min: 1e-9, Max: 1e9},
+				{Name: "sigma", Kind: Float, Default: Value{Num: 0.2}, Doc: "sensor noise standard deviation before the quantiser in m", Min: 1e-9, Max: 1e9},
+			},
+			Build: func(v Values) (*datasets.Problem, error) {
+				return datasets.NewQuantised(datasets.QuantisedConfig{Steps: v.Int("steps"), Dt: v.Float("dt"), Q: v.Float("q"),
+					Step: v.Float("step"), Sigma: v.Float("sigma")})
 			},
 		},
 	}

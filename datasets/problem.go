@@ -57,6 +57,14 @@ type Traits struct {
 	AnalyticJacobians bool // the model provides FJac and HJac
 	AdditiveNoise     bool // noise enters additively
 	GaussianNoise     bool // process and measurement noise are Gaussian
+
+	// Phrases saying why a trait above does not hold, each completing a
+	// sentence that starts with the problem's name ("friction is
+	// discontinuous at v=0"). Filters that cannot apply quote them in
+	// their reason. Empty when the trait holds or no phrase is given.
+	NonDifferentiable string // when Differentiable is false: "is discontinuous at v=0"
+	NonAdditive       string // when AdditiveNoise is false: "has multiplicative process noise"
+	NonGaussian       string // when GaussianNoise is false: "has Student-t measurement noise"
 }
 
 // Problem is a benchmark problem: a model, its prior and a simulator.
