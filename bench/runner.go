@@ -188,8 +188,16 @@ func runProblem(s *Suite, pl *problemPlan, workers int, opt Options, done *int, 
 		wg.Add(1)
 		go func(w *worker) {
 			defer wg.Done()
-			for r := range jobs {
+			// Take a buffer before a job: whoever holds the lowest unfinished
+			// run then always has a buffer for it, so the ordered collection
+			// below cannot wait on a run that waits on a buffer.
+			for {
 				jr := <-free
+				r, ok := <-jobs
+				if !ok {
+					free <- jr
+					return
+				}
 				jr.run = r
 				w.run(r, jr)
 				results <- jr

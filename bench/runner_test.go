@@ -284,3 +284,31 @@ use = "kf"
 		})
 	}
 }
+
+// Many workers on many short runs: runs finish far out of order, which
+// must neither deadlock the ordered collection nor change a number.
+func TestRunManyWorkersShortRuns(t *testing.T) {
+	text := `
+name = "survey-drone-stress"
+seed = 2
+runs = 300
+[[problem]]
+use = "cv2d"
+steps = 3
+[[filter]]
+use = "kf"
+[[filter]]
+use = "pf"
+particles = 20
+`
+	s := mustParse(t, text, Builtin())
+	a, _ := runWith(t, s, 1)
+	for _, w := range []int{3, 8, 16} {
+		b, _ := runWith(t, s, w)
+		for i := range a.Pairs {
+			if !sameBits(a.Pairs[i].Summary.RMSE, b.Pairs[i].Summary.RMSE) || !sameBits(a.Pairs[i].Summary.ANEES, b.Pairs[i].Summary.ANEES) {
+				t.Fatalf("workers=%d: pair %d differs", w, i)
+			}
+		}
+	}
+}
