@@ -1,10 +1,12 @@
 GO ?= go
+# Stamp the VCS revision into the manifest when building from a git checkout.
+BUILDVCS := $(shell git rev-parse --is-inside-work-tree >/dev/null 2>&1 && echo true || echo false)
 
 .PHONY: run test build bench fuzz
 
 # The main job: the built-in default suite.
 run:
-	$(GO) run -buildvcs=auto ./bench/cmd/estbench run
+	$(GO) run -buildvcs=$(BUILDVCS) ./bench/cmd/estbench run
 
 # The tests: go vet and go test over every package.
 test:
@@ -12,7 +14,7 @@ test:
 	$(GO) test ./...
 
 build:
-	$(GO) build -buildvcs=auto -o bin/estbench ./bench/cmd/estbench
+	$(GO) build -buildvcs=$(BUILDVCS) -o bin/estbench ./bench/cmd/estbench
 
 # Per-step benchmarks of every filter on every problem.
 bench:
