@@ -2,6 +2,7 @@ package results
 
 import (
 	"bytes"
+	"math"
 	"strings"
 	"testing"
 
@@ -100,5 +101,22 @@ func TestEscaping(t *testing.T) {
 	}
 	if strings.Contains(tex.String(), "caption") || strings.Contains(md.String(), "Provenance") {
 		t.Error("zero Provenance printed")
+	}
+}
+
+// A consistency column takes its scale from the bounds; one value far above
+// them (a collapsed particle cloud) is shown alone in e-notation instead of
+// turning the whole column into e-notation.
+func TestConsistencyColumnOutlier(t *testing.T) {
+	rows := []SummaryRow{
+		{Problem: "ungm", Filter: "ukf", Applicable: true, Summary: metrics.Summary{Runs: 30, ANEES: 1.951, ANEESLo: 0.950, ANEESHi: 1.051, ANIS: math.NaN(), ANISLo: math.NaN(), ANISHi: math.NaN(), RMSE: 7.8, RMSELo: 7.5, RMSEHi: 8.1, NsPerStep: 600}},
+		{Problem: "ungm", Filter: "pf", Applicable: true, Summary: metrics.Summary{Runs: 30, ANEES: 6.63e13, ANEESLo: 0.950, ANEESHi: 1.051, ANIS: math.NaN(), ANISLo: math.NaN(), ANISHi: math.NaN(), RMSE: 4.7, RMSELo: 4.3, RMSEHi: 5.2, NsPerStep: 16000}},
+	}
+	h := buildHuman(rows, Provenance{})
+	if got := h.cells[0][hANEES]; got != "1.951 [0.950, 1.051] high" {
+		t.Errorf("ukf cell %q", got)
+	}
+	if got := h.cells[1][hANEES]; got != "6.63e+13 [0.950, 1.051] high" {
+		t.Errorf("pf cell %q", got)
 	}
 }

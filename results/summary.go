@@ -111,8 +111,11 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 			continue
 		}
 		rmse = append(rmse, r.RMSE, r.RMSELo, r.RMSEHi)
-		anees = append(anees, r.ANEES, r.ANEESLo, r.ANEESHi)
-		anis = append(anis, r.ANIS, r.ANISLo, r.ANISHi)
+		// The consistency columns take their scale from the bounds, which
+		// sit near the dimension; an ANEES far outside them (a collapsed
+		// particle cloud) is shown on its own in e-notation by format.
+		anees = append(anees, r.ANEESLo, r.ANEESHi)
+		anis = append(anis, r.ANISLo, r.ANISHi)
 		ns = append(ns, r.NsPerStep)
 		inb = append(inb, 100*r.NEESInBounds)
 		allocs = append(allocs, r.AllocsPerStep)
@@ -230,8 +233,15 @@ func (s scale) format(v float64) string {
 	if s.expo {
 		return strconv.FormatFloat(v, 'e', s.decimals, 64)
 	}
+	if math.Abs(v/s.div) >= tooWide {
+		return strconv.FormatFloat(v/s.div, 'e', 2, 64)
+	}
 	return strconv.FormatFloat(v/s.div, 'f', s.decimals, 64)
 }
+
+// tooWide is the scaled magnitude from which a single value of a fixed
+// column is shown in e-notation rather than as a long run of digits.
+const tooWide = 1e6
 
 // maxDecimals bounds the decimals of a column.
 const maxDecimals = 6
