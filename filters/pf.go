@@ -15,6 +15,15 @@ type PFConfig struct {
 	// (0, 1]; if zero, 1.0 is used, which resamples after every update
 	// whose weights are not all equal.
 	ResampleThreshold float64
+	// Resample is the resampling scheme; the zero value is systematic.
+	Resample Resampling
+	// Roughening, if positive, is the constant K of roughening (Gordon,
+	// Salmond & Smith 1993, §3.3 (section from memory)): after each
+	// resampling every component c of every particle gets an independent
+	// N(0, σ_c²) jitter with σ_c = K·E_c·N^(−1/Nx), E_c the range of
+	// component c over the resampled particles. Zero (the default) turns
+	// it off; it must be finite and not negative.
+	Roughening float64
 }
 
 // Defaults used when PFConfig fields are zero.
@@ -26,25 +35,39 @@ const (
 // PF is the bootstrap particle filter of Gordon, Salmond & Smith 1993
 // ("Novel approach to nonlinear/non-Gaussian Bayesian state estimation",
 // IEE Proc. F 140(2)): particles are propagated through the transition with
-// sampled process noise (the prior as proposal), weighted by the Gaussian
-// measurement likelihood, and resampled by systematic resampling (Kitagawa
-// 1996, "Monte Carlo filter and smoother for non-Gaussian nonlinear state
-// space models", JCGS 5(1); Douc, Cappé & Moulines 2005, "Comparison of
-// resampling schemes for particle filtering", ISPA) when the effective
-// sample size 1/Σw² falls below ResampleThreshold·N.
+// sampled process noise (the prior as proposal), weighted by the
+// measurement likelihood, and resampled when the effective sample size
+// 1/Σw² falls below ResampleThreshold·N, by the scheme of PFConfig.Resample
+// (systematic by default: Kitagawa 1996, "Monte Carlo filter and smoother
+// for non-Gaussian nonlinear state space models", JCGS 5(1); the others as
+// compared by Douc, Cappé & Moulines 2005, "Comparison of resampling
+// schemes for particle filtering", ISPA), optionally followed by
+// roughening.
 //
 // Reset draws the N particles from N(x0, p0). p0 may be positive
 // semi-definite: a component with zero variance (up to a relative 1e-12 of
 // the largest variance) starts exactly at x0; ErrNotPosDef is returned if p0
 // is not positive semi-definite. Q is treated the same way (zero-variance
-// components get no noise). R must be positive definite.
+// components get no noise).
+//
+// # Noise and likelihood
+//
+// With additive process noise a particle moves to F(x) + w, w ~ N(0, Q);
+// if the model has FW, to FW(x, w, k) with w ~ N(0, Q) of dimension Nw.
+// The likelihood is Model.MeasLogLik when set (the exact density of
+// non-Gaussian measurement noise) and otherwise the Gaussian density of
+// z − H(x) with covariance R, which must then be positive definite. A model
+// with non-additive measurement noise (HV) must set MeasLogLik, as the
+// density of HV(x, v) is not available in general: NewPF refuses it
+// otherwise.
 //
 // Weights are kept as logarithms and normalised by log-sum-exp, so a
 // measurement far from every particle leaves the nearest ones, not an
 // error. Log-weights are floored at -1e13 (a residual of over 4·10⁶
 // standard deviations): a particle whose log-likelihood is below the floor
-// or NaN (a NaN measurement function value) gets weight zero, and if no
-// particle is above it Update returns ErrWeightsZero. The estimate is the
+// or NaN (a NaN measurement function value), or a MeasLogLik above 1e12
+// (no density is that large), gets weight zero, and if no particle is
+// above the floor Update returns ErrWeightsZero. The estimate is the
 // weighted mean and covariance of the particles, taken after the weights of
 // an update and before resampling; Model.AngleState components use the
 // circular mean atan2(Σw sin, Σw cos) and wrapped residuals. If the
@@ -54,21 +77,40 @@ const (
 // The innovation is nu = z - zhat, with zhat the weighted mean of the
 // predicted particle measurements H(x_i) under the weights before the
 // update, and S their weighted covariance plus R (NaN if any H(x_i) is).
+// With HV the predicted measurements are HV(x_i, v_i) with v_i ~ N(0, R)
+// drawn per particle, and S is their weighted covariance (R is then the
+// covariance of v, not of the measurement).
 //
 // PF implements Filter, Innovator and ESSer. It calls Model.FMany and
 // Model.HMany, when set, once per step for all particles (stored one after
-// another), and F and H per particle otherwise. All randomness comes from
-// the stream passed to Reset: NormFloat64 for the noise and one Float64 per
-// resampling.
+// another), and F and H per particle otherwise (FW and HV always per
+// particle). All randomness comes from the stream passed to Reset:
+// NormFloat64 for the noise and the roughening, and for each resampling
+// one Float64 (systematic), N Float64 (stratified) or up to N+1
+// ExpFloat64 (multinomial, residual).
 type PF struct {
 	m      *Model
+	name   string  // "pf" or "rpf", for messages
 	n      int     // particles
 	thresh float64 // resample when ess < thresh*n
-	scalar bool    // Nx == Nz == 1 and no angles: scalar fast paths
+	scalar bool    // Nx == Nz == 1, additive Gaussian noise, no angles: scalar fast paths
 
-	lq    []float64 // PSD lower factor of Q, Nx*Nx
+	rs    resampler // resampling scheme and its workspace
+	rough float64   // roughening constant K, 0 = off
+	sig   []float64 // roughening standard deviations, Nx
+
+	// regularisation (rpf): after resampling, jitter h·L e with L L' the
+	// weighted particle covariance before resampling.
+	regular bool
+	hopt    float64
+	lk      []float64 // h·L, Nx*Nx
+	lkc     []int     // nonzero columns of lk, capacity Nx
+
+	lq    []float64 // PSD lower factor of Q, Nw*Nw (Nw = Nx with additive noise)
 	qcols []int     // the nonzero columns of lq (noise draws per particle)
-	lr    []float64 // lower Cholesky factor of R, Nz*Nz
+	lr    []float64 // lower Cholesky factor of R (Gaussian likelihood), Nz*Nz
+	lv    []float64 // PSD lower factor of R (HV), Nv*Nv
+	vcols []int     // the nonzero columns of lv
 	sqQ   float64   // sqrt(Q) when scalar
 	halfR float64   // -1/(2R) when scalar
 
@@ -91,10 +133,11 @@ type PF struct {
 
 	// workspace, sized in NewPF, reused every step
 	zh  []float64 // predicted measurements H(x_i), n*Nz
-	idx []int32   // resampling: number of parents starting at each position, n+1
 	zm  []float64 // weighted mean of zh, Nz
 	r   []float64 // one residual, max(Nx, Nz)
-	e   []float64 // one standard normal draw, Nx
+	e   []float64 // one standard normal draw, max(Nx, Nw, Nv)
+	nw  []float64 // one process noise draw, Nw (FW)
+	nv  []float64 // one measurement noise draw, Nv (HV)
 	l0  []float64 // PSD lower factor of p0, Nx*Nx
 	p0c []int     // the nonzero columns of l0, capacity Nx
 	res []float64 // residuals of the points of a weighted moment, n*max(Nx, Nz)
@@ -108,53 +151,90 @@ var (
 
 // NewPF returns a bootstrap particle filter for m; Q and R are factored
 // here, once. It returns ErrNotPosDef if Q is not positive semi-definite or
-// R is not positive definite.
+// R is not positive definite (positive semi-definite with HV; with
+// MeasLogLik and additive noise R only enters S and is not factored), and
+// an error if the config is out of range or m has HV without MeasLogLik.
 func NewPF(m *Model, cfg PFConfig) (*PF, error) {
+	return newPF(m, cfg, "pf")
+}
+
+func newPF(m *Model, cfg PFConfig, name string) (*PF, error) {
 	m.check()
 	n := cfg.Particles
 	if n == 0 {
 		n = DefaultPFParticles
 	}
 	if n < 1 || n > math.MaxInt32-1 {
-		return nil, errors.New("filters: pf: Particles must be in [1, 2^31-2]")
+		return nil, errors.New("filters: " + name + ": Particles must be in [1, 2^31-2]")
 	}
 	th := cfg.ResampleThreshold
 	if th == 0 {
 		th = DefaultPFResampleThreshold
 	}
 	if !(th > 0 && th <= 1) {
-		return nil, errors.New("filters: pf: ResampleThreshold must be in (0, 1]")
+		return nil, errors.New("filters: " + name + ": ResampleThreshold must be in (0, 1]")
+	}
+	if !cfg.Resample.valid() {
+		return nil, errors.New("filters: " + name + ": unknown Resample scheme")
+	}
+	if !(cfg.Roughening >= 0) || math.IsInf(cfg.Roughening, 0) {
+		return nil, errors.New("filters: " + name + ": Roughening must be finite and not negative")
+	}
+	if m.HV != nil && m.MeasLogLik == nil {
+		return nil, errors.New("filters: " + name + ": the model's measurement noise is not additive (HV) and it has no MeasLogLik; the likelihood of HV(x, v) is not available")
 	}
 	nx, nz := m.Nx, m.Nz
+	nwd, nvd := nx, nz
+	if m.FW != nil {
+		nwd = m.Nw
+	}
+	if m.HV != nil {
+		nvd = m.Nv
+	}
 	nm := max(nx, nz)
 	f := &PF{
 		m:      m,
+		name:   name,
 		n:      n,
 		thresh: th,
-		scalar: nx == 1 && nz == 1 && len(m.AngleState) == 0 && len(m.AngleMeas) == 0,
-		lq:     make([]float64, nx*nx),
-		lr:     make([]float64, nz*nz),
-		x:      make([]float64, n*nx),
-		alt:    make([]float64, n*nx),
-		lw:     make([]float64, n),
-		w:      make([]float64, n),
-		mean:   make([]float64, nx),
-		cov:    make([]float64, nx*nx),
-		nu:     make([]float64, nz),
-		s:      make([]float64, nz*nz),
-		zh:     make([]float64, n*nz),
-		idx:    make([]int32, n+1),
-		zm:     make([]float64, nz),
-		r:      make([]float64, nm),
-		e:      make([]float64, nx),
-		l0:     make([]float64, nx*nx),
-		p0c:    make([]int, 0, nx),
-		res:    make([]float64, n*nm),
+		scalar: nx == 1 && nz == 1 && len(m.AngleState) == 0 && len(m.AngleMeas) == 0 &&
+			m.Additive() && m.MeasLogLik == nil,
+		rs:    newResampler(cfg.Resample, n),
+		rough: cfg.Roughening,
+		sig:   make([]float64, nx),
+		lq:    make([]float64, nwd*nwd),
+		lr:    make([]float64, nz*nz),
+		x:     make([]float64, n*nx),
+		alt:   make([]float64, n*nx),
+		lw:    make([]float64, n),
+		w:     make([]float64, n),
+		mean:  make([]float64, nx),
+		cov:   make([]float64, nx*nx),
+		nu:    make([]float64, nz),
+		s:     make([]float64, nz*nz),
+		zh:    make([]float64, n*nz),
+		zm:    make([]float64, nz),
+		r:     make([]float64, nm),
+		e:     make([]float64, max(nx, nwd, nvd)),
+		nw:    make([]float64, nwd),
+		l0:    make([]float64, nx*nx),
+		p0c:   make([]int, 0, nx),
+		res:   make([]float64, n*nm),
 	}
-	if !psdFactor(f.lq, m.Q, nx) || !cholesky(f.lr, m.R, nz) {
+	if !semiChol(f.lq, m.Q, nwd) {
 		return nil, ErrNotPosDef
 	}
-	f.qcols = nonzeroCols(nil, f.lq, nx)
+	f.qcols = nonzeroCols(nil, f.lq, nwd)
+	if m.HV != nil {
+		f.lv = make([]float64, nvd*nvd)
+		f.nv = make([]float64, nvd)
+		if !semiChol(f.lv, m.R, nvd) {
+			return nil, ErrNotPosDef
+		}
+		f.vcols = nonzeroCols(nil, f.lv, nvd)
+	} else if m.MeasLogLik == nil && !cholesky(f.lr, m.R, nz) {
+		return nil, ErrNotPosDef
+	}
 	f.sqQ = f.lq[0]
 	f.halfR = -0.5 / m.R[0]
 	return f, nil
@@ -164,10 +244,10 @@ func NewPF(m *Model, cfg PFConfig) (*PF, error) {
 func (f *PF) Reset(x0, p0 []float64, rng *rand.Rand) error {
 	nx := f.m.Nx
 	if len(x0) != nx || len(p0) != nx*nx {
-		panic("filters: pf: dimension mismatch")
+		panic("filters: " + f.name + ": dimension mismatch")
 	}
 	if rng == nil {
-		panic("filters: pf: Reset needs a random stream")
+		panic("filters: " + f.name + ": Reset needs a random stream")
 	}
 	f.rng = rng
 	f.estOK, f.haveInnov, f.resamples = false, false, 0
@@ -175,7 +255,7 @@ func (f *PF) Reset(x0, p0 []float64, rng *rand.Rand) error {
 	if !allFinite(x0) {
 		return ErrNonFinite
 	}
-	if !psdFactor(f.l0, p0, nx) {
+	if !semiChol(f.l0, p0, nx) {
 		return ErrNotPosDef
 	}
 	f.p0c = nonzeroCols(f.p0c[:0], f.l0, nx)
@@ -224,33 +304,69 @@ func nonzeroCols(dst []int, l []float64, n int) []int {
 	return dst
 }
 
-// Predict propagates every particle to step k and adds process noise.
+// Predict propagates every particle to step k and adds process noise
+// (through FW if the model has it).
 func (f *PF) Predict(k int) error {
-	m := f.m
-	nx := m.Nx
-	// Transition into alt, then swap so x holds the propagated particles.
-	if m.FMany != nil {
-		m.FMany(f.alt, f.x, k)
-	} else {
-		for i := 0; i < f.n; i++ {
-			m.F(f.alt[i*nx:i*nx+nx], f.x[i*nx:i*nx+nx], k)
-		}
-	}
+	f.propagate(f.alt, f.x, k)
 	f.x, f.alt = f.alt, f.x
 	f.haveInnov = false
-	if f.scalar {
-		sq, rng := f.sqQ, f.rng
-		x := f.x
-		for i := range x {
-			x[i] += sq * rng.NormFloat64()
-		}
-	} else {
-		for i := 0; i < f.n; i++ {
-			f.addNoise(f.x[i*nx:i*nx+nx], f.lq, f.qcols)
-		}
-	}
 	f.estOK = false
 	return nil
+}
+
+// propagate sets the particles dst to samples of the transition from the
+// particles src (dst must not alias src).
+func (f *PF) propagate(dst, src []float64, k int) {
+	m := f.m
+	nx := m.Nx
+	if m.FW != nil {
+		w := f.nw
+		for i := 0; i < f.n; i++ {
+			clear(w)
+			f.addNoise(w, f.lq, f.qcols)
+			m.FW(dst[i*nx:i*nx+nx], src[i*nx:i*nx+nx], w, k)
+		}
+		return
+	}
+	if m.FMany != nil {
+		m.FMany(dst, src, k)
+	} else {
+		for i := 0; i < f.n; i++ {
+			m.F(dst[i*nx:i*nx+nx], src[i*nx:i*nx+nx], k)
+		}
+	}
+	if f.scalar {
+		sq, rng := f.sqQ, f.rng
+		for i := range dst {
+			dst[i] += sq * rng.NormFloat64()
+		}
+		return
+	}
+	for i := 0; i < f.n; i++ {
+		f.addNoise(dst[i*nx:i*nx+nx], f.lq, f.qcols)
+	}
+}
+
+// measure sets zh to the predicted measurements of the particles x: H(x_i),
+// or HV(x_i, v_i) with v_i ~ N(0, R) if the model has HV.
+func (f *PF) measure(x []float64, k int) {
+	m := f.m
+	nx, nz := m.Nx, m.Nz
+	switch {
+	case m.HV != nil:
+		v := f.nv
+		for i := 0; i < f.n; i++ {
+			clear(v)
+			f.addNoise(v, f.lv, f.vcols)
+			m.HV(f.zh[i*nz:i*nz+nz], x[i*nx:i*nx+nx], v, k)
+		}
+	case m.HMany != nil:
+		m.HMany(f.zh, x, k)
+	default:
+		for i := 0; i < f.n; i++ {
+			m.H(f.zh[i*nz:i*nz+nz], x[i*nx:i*nx+nx], k)
+		}
+	}
 }
 
 // Update weights the particles by the likelihood of z, takes the estimate
@@ -265,21 +381,15 @@ func (f *PF) Update(z []float64, k int) error {
 	m := f.m
 	nx, nz := m.Nx, m.Nz
 	if len(z) != nz {
-		panic("filters: pf: dimension mismatch")
+		panic("filters: " + f.name + ": dimension mismatch")
 	}
-	if m.HMany != nil {
-		m.HMany(f.zh, f.x, k)
-	} else {
-		for i := 0; i < f.n; i++ {
-			m.H(f.zh[i*nz:i*nz+nz], f.x[i*nx:i*nx+nx], k)
-		}
-	}
+	f.measure(f.x, k)
 	var mx float64
 	if f.scalar {
 		mx = f.logLikScalar(z[0])
 	} else {
 		f.innovation(z)
-		mx = f.logLik(z)
+		mx = f.logLik(z, k)
 	}
 	if !(mx > lwFloor) {
 		return ErrWeightsZero
@@ -321,10 +431,16 @@ func (f *PF) Update(z []float64, k int) error {
 
 	f.haveInnov = true
 	if resample {
-		systematicResample(f.alt, f.x, f.w, f.idx, nx, float64(f.n)*inv, 1-f.rng.Float64())
+		f.rs.resample(f.alt, f.x, f.w, nx, float64(f.n)*inv, f.rng)
 		f.x, f.alt = f.alt, f.x
 		f.eq = true
 		f.resamples++
+		if f.rough > 0 {
+			roughen(f.x, nx, f.rough, m.AngleState, f.sig, f.rng)
+		}
+		if f.regular {
+			return f.regularise()
+		}
 		return nil
 	}
 	// Keep normalised weights and log-weights, so they cannot drift.
@@ -337,6 +453,27 @@ func (f *PF) Update(z []float64, k int) error {
 	for i := range f.lw {
 		f.lw[i] -= shift
 	}
+	return nil
+}
+
+// regularise adds h·L e_i, e_i standard normal, to every particle, with
+// L Lᵀ the weighted particle covariance before resampling (the estimate,
+// f.cov) and h the bandwidth: the post-regularised particle filter of
+// Musso, Oudjane & Le Gland 2001 (see RPF). It returns ErrNotPosDef if the
+// covariance is not positive semi-definite.
+func (f *PF) regularise() error {
+	nx := f.m.Nx
+	if !semiChol(f.lk, f.cov, nx) {
+		return ErrNotPosDef
+	}
+	for i := range f.lk {
+		f.lk[i] *= f.hopt
+	}
+	f.lkc = nonzeroCols(f.lkc[:0], f.lk, nx)
+	for i := 0; i < f.n; i++ {
+		f.addNoise(f.x[i*nx:i*nx+nx], f.lk, f.lkc)
+	}
+	wrapComponents(f.x, nx, f.m.AngleState)
 	return nil
 }
 
@@ -392,13 +529,16 @@ func (f *PF) logLikScalar(z float64) float64 {
 	return mx
 }
 
-// innovation sets zm, nu and s from the predicted measurements under the
-// prior weights.
+// innovation sets zm, nu and s from the predicted measurements zh under
+// the prior weights; R is added to s unless the model has HV (whose zh
+// carry the measurement noise).
 func (f *PF) innovation(z []float64) {
 	m := f.m
 	weightedMoments(f.zm, f.s, f.zh, f.weights(), m.Nz, m.AngleMeas, f.res[:len(f.zh)])
-	for i, rv := range m.R {
-		f.s[i] += rv
+	if m.HV == nil {
+		for i, rv := range m.R {
+			f.s[i] += rv
+		}
 	}
 	for j := range f.nu {
 		f.nu[j] = z[j] - f.zm[j]
@@ -408,29 +548,14 @@ func (f *PF) innovation(z []float64) {
 	}
 }
 
-// logLik adds the Gaussian log-likelihood -|L⁻¹(z-h_i)|²/2 of each
-// particle to its log-weight (or sets it if the weights are equal), with
-// L the Cholesky factor of R and angle residuals wrapped, floored at
-// lwFloor, and returns the largest log-weight.
-func (f *PF) logLik(z []float64) float64 {
-	m := f.m
-	nz := m.Nz
-	r := f.r[:nz]
+// logLik adds the log-likelihood of z for each particle to its log-weight
+// (or sets it if the weights are equal), floored at lwFloor, and returns
+// the largest log-weight.
+func (f *PF) logLik(z []float64, k int) float64 {
+	nx, nz := f.m.Nx, f.m.Nz
 	mx := math.Inf(-1)
 	for i := range f.lw {
-		zi := f.zh[i*nz : i*nz+nz]
-		for j := range r {
-			r[j] = z[j] - zi[j]
-		}
-		for _, j := range m.AngleMeas {
-			r[j] = wrapAngle(r[j])
-		}
-		forwardSolve(f.lr, r, nz)
-		var q float64
-		for _, v := range r {
-			q += v * v
-		}
-		v := -0.5 * q
+		v := f.pointLogLik(z, f.x[i*nx:i*nx+nx], f.zh[i*nz:i*nz+nz], k)
 		if !f.eq {
 			v += f.lw[i]
 		}
@@ -445,6 +570,40 @@ func (f *PF) logLik(z []float64) float64 {
 	return mx
 }
 
+// llMax bounds a MeasLogLik value from above: a larger one (or +Inf, or
+// NaN) gives the particle weight zero. No density of a measurement in
+// physical units is e^(10^12).
+const llMax = 1e12
+
+// pointLogLik returns log p(z | x) for the state x with predicted
+// measurement zh = H(x): Model.MeasLogLik if set (NaN if it is above
+// llMax or NaN), else the Gaussian -|L⁻¹(z-zh)|²/2 with L the Cholesky
+// factor of R and angle residuals wrapped (up to a constant).
+func (f *PF) pointLogLik(z, x, zh []float64, k int) float64 {
+	m := f.m
+	if m.MeasLogLik != nil {
+		v := m.MeasLogLik(z, x, k)
+		if !(v <= llMax) {
+			return math.NaN()
+		}
+		return v
+	}
+	nz := m.Nz
+	r := f.r[:nz]
+	for j := range r {
+		r[j] = z[j] - zh[j]
+	}
+	for _, j := range m.AngleMeas {
+		r[j] = wrapAngle(r[j])
+	}
+	forwardSolve(f.lr, r, nz)
+	var q float64
+	for _, v := range r {
+		q += v * v
+	}
+	return -0.5 * q
+}
+
 func (f *PF) checkEstimate() error {
 	if !allFinite(f.mean) || !allFinite(f.cov) {
 		return ErrNonFinite
@@ -455,9 +614,13 @@ func (f *PF) checkEstimate() error {
 // lwFloor bounds the log-weights from below (NaN is mapped to it too). A
 // log-likelihood under it is a residual of over 4·10⁶ standard deviations;
 // if no particle is above it, Update returns ErrWeightsZero. Log-weights
-// are also at most 0 (they are normalised after each update, and a
-// log-likelihood is at most 0), so the arguments lw_i - mx of the weight
-// exponential lie in [lwFloor, 0] and it needs no clamp.
+// are also at most 0 after each update (they are normalised) and a
+// Gaussian log-likelihood is at most 0, so the arguments lw_i - mx of the
+// weight exponential lie in [lwFloor, 0] and it needs no clamp. A
+// MeasLogLik may be positive, up to llMax, and the auxiliary filter's
+// second-stage weights are differences of two log-likelihoods: the
+// arguments then lie in [-3e13, 0], where the exponential below is just as
+// exact (it gives zero there, and k stays far from overflow).
 const lwFloor = -1e13
 
 // The weights exp(lw_i - mx) are computed by an inline exponential for
@@ -558,7 +721,7 @@ func (f *PF) weights() []float64 {
 func (f *PF) EstimateTo(x, p []float64) {
 	nx := f.m.Nx
 	if len(x) != nx || (p != nil && len(p) != nx*nx) {
-		panic("filters: pf: dimension mismatch")
+		panic("filters: " + f.name + ": dimension mismatch")
 	}
 	if !f.estOK {
 		f.estimate()
@@ -575,7 +738,7 @@ func (f *PF) EstimateTo(x, p []float64) {
 func (f *PF) InnovationTo(nu, s []float64) bool {
 	nz := f.m.Nz
 	if len(nu) != nz || (s != nil && len(s) != nz*nz) {
-		panic("filters: pf: dimension mismatch")
+		panic("filters: " + f.name + ": dimension mismatch")
 	}
 	if !f.haveInnov {
 		return false
@@ -739,64 +902,4 @@ func systematicResample(dst, src, w []float64, idx []int32, d int, scale, u floa
 		copy(dst[j*d:j*d+d], src[int(p)*d:int(p)*d+d])
 	}
 	idx[n] = 0
-}
-
-// psdFactor writes into l a lower triangular factor of the symmetric
-// positive semi-definite a (n x n), a = l lᵀ, by Cholesky with zero
-// columns where a pivot vanishes. A pivot is taken as zero when it is at
-// most tol = 1e-12 times the largest diagonal entry; the entries below it
-// must then be at most sqrt(tol) times that entry (for a PSD matrix they
-// are bounded by sqrt(pivot · diagonal)). It reports false if a is not PSD
-// by that test or has non-finite entries. l must not alias a.
-func psdFactor(l, a []float64, n int) bool {
-	var dmax float64
-	for i := 0; i < n; i++ {
-		d := a[i*n+i]
-		if !(d >= 0) || math.IsInf(d, 0) {
-			return false
-		}
-		dmax = max(dmax, d)
-	}
-	tol := 1e-12 * dmax
-	offTol := 1e-6 * dmax
-	for j := 0; j < n; j++ {
-		s := a[j*n+j]
-		for k := 0; k < j; k++ {
-			s -= l[j*n+k] * l[j*n+k]
-		}
-		for i := 0; i < j; i++ {
-			l[i*n+j] = 0
-		}
-		if s <= tol {
-			if s < -tol {
-				return false
-			}
-			l[j*n+j] = 0
-			for i := j + 1; i < n; i++ {
-				t := a[i*n+j]
-				for k := 0; k < j; k++ {
-					t -= l[i*n+k] * l[j*n+k]
-				}
-				if !(math.Abs(t) <= offTol) {
-					return false
-				}
-				l[i*n+j] = 0
-			}
-			continue
-		}
-		d := math.Sqrt(s)
-		l[j*n+j] = d
-		inv := 1 / d
-		for i := j + 1; i < n; i++ {
-			t := a[i*n+j]
-			for k := 0; k < j; k++ {
-				t -= l[i*n+k] * l[j*n+k]
-			}
-			if math.IsNaN(t) || math.IsInf(t, 0) {
-				return false
-			}
-			l[i*n+j] = t * inv
-		}
-	}
-	return true
 }

@@ -66,11 +66,17 @@ type gap struct {
 // returns their gap over the updates after step burn.
 func pfKFGap(t *testing.T, m *filters.Model, x0, p0 []float64, n, burn, steps int, seeds []uint64) gap {
 	t.Helper()
+	return kfGap(t, m, newPF(t, m, filters.PFConfig{Particles: n}), x0, p0, burn, steps, seeds)
+}
+
+// kfGap is pfKFGap for any Monte Carlo filter pf (an Innovator) built for m.
+func kfGap(t *testing.T, m *filters.Model, pf filters.Filter, x0, p0 []float64, burn, steps int, seeds []uint64) gap {
+	t.Helper()
 	kf, err := filters.NewKF(m, filters.KFConfig{})
 	if err != nil {
 		t.Fatalf("NewKF: %v", err)
 	}
-	pf := newPF(t, m, filters.PFConfig{Particles: n})
+	inn := pf.(filters.Innovator)
 	nx, nz := m.Nx, m.Nz
 	xk, pk := make([]float64, nx), make([]float64, nx*nx)
 	xp, pp := make([]float64, nx), make([]float64, nx*nx)
@@ -102,7 +108,7 @@ func pfKFGap(t *testing.T, m *filters.Model, x0, p0 []float64, n, burn, steps in
 			}
 			kf.EstimateTo(xk, pk)
 			pf.EstimateTo(xp, pp)
-			if !kf.InnovationTo(nuk, sk) || !pf.InnovationTo(nup, sp) {
+			if !kf.InnovationTo(nuk, sk) || !inn.InnovationTo(nup, sp) {
 				t.Fatalf("step %d: no innovation", k)
 			}
 			var a, b float64
