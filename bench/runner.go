@@ -340,6 +340,7 @@ func (w *worker) runFilter(c, r int, tr *metrics.RunTrace, ess []float64) {
 	tr.Diverged, tr.DivStep, tr.Reason = false, 0, ""
 	tr.NsPerStep = math.NaN()
 	tr.ESS = nil
+	tr.Repairs = 0
 	w.step = 0
 	defer func() {
 		if v := recover(); v != nil {
@@ -357,6 +358,9 @@ func (w *worker) runFilter(c, r int, tr *metrics.RunTrace, ess []float64) {
 	t0 := time.Now()
 	k := w.filterSteps(f)
 	el := time.Since(t0)
+	if rp, ok := f.(interface{ Repairs() int }); ok {
+		tr.Repairs = rp.Repairs()
+	}
 	if k < w.prob.Steps {
 		tr.Diverged, tr.DivStep = true, k+1
 		tr.Reason = w.stepErr.Error()

@@ -37,6 +37,8 @@ type Accumulator struct {
 	nis      []float64 // Σ_r NIS_r(k) over the runs with a measurement at k
 	nisCount []int     // number of those runs
 
+	repairs, repairRuns int // covariance repairs over all runs; runs that needed one
+
 	essSum   float64 // Σ ESS over non-diverged runs that report it, all steps
 	essCount int     // number of terms in essSum
 
@@ -106,6 +108,10 @@ func (a *Accumulator) Add(t *RunTrace) {
 	}
 	a.runs++
 	a.lastRun = t.Run
+	if t.Repairs > 0 {
+		a.repairs += t.Repairs
+		a.repairRuns++
+	}
 	if t.Diverged {
 		if a.diverged == 0 {
 			a.divRun, a.divStep, a.divReason = t.Run, t.DivStep, t.Reason
@@ -239,6 +245,10 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 	if a.essCount > 0 {
 		s.MeanESS = a.essSum / float64(a.essCount)
 	}
+	s.Repairs = a.repairs
+	if a.repairs > 0 {
+		s.Warnings = append(s.Warnings, fmt.Sprintf("the covariance needed %d jitter repairs in %d of %d runs; the filter is numerically fragile here (a square-root form or a retuned noise model may help)", a.repairs, a.repairRuns, a.runs))
+	}
 	return s
 }
 
@@ -303,6 +313,7 @@ func RunStatOf(t *RunTrace) RunStat {
 	r := RunStat{
 		Run: t.Run, Diverged: t.Diverged, DivStep: t.DivStep, Reason: t.Reason,
 		RMSE: nan, ANEES: nan, ANIS: nan, NsPerStep: t.NsPerStep, MeanESS: nan,
+		Repairs: t.Repairs,
 	}
 	if t.Diverged {
 		return r

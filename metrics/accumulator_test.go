@@ -5,6 +5,7 @@ import (
 	"math/rand/v2"
 	"reflect"
 	"slices"
+	"strings"
 	"testing"
 )
 
@@ -388,5 +389,30 @@ func BenchmarkAccumulatorSummary(b *testing.B) {
 	b.ReportAllocs()
 	for b.Loop() {
 		acc.Summary(1)
+	}
+}
+
+// Covariance repairs are summed over every run, diverged ones included, and
+// produce a warning naming how many runs needed them.
+func TestAccumulatorRepairs(t *testing.T) {
+	a := NewAccumulator(2, 1, 1)
+	for r, rep := range []int{0, 3, 0, 2} {
+		a.Add(&RunTrace{Run: r, SqErr: []float64{1, 1}, NEES: []float64{1, 1}, Repairs: rep, Diverged: r == 3, DivStep: 1, Reason: "x"})
+	}
+	s := a.Summary(1)
+	if s.Repairs != 5 {
+		t.Fatalf("repairs %d, want 5", s.Repairs)
+	}
+	found := false
+	for _, w := range s.Warnings {
+		if strings.HasPrefix(w, "the covariance needed 5 jitter repairs in 2 of 4 runs") {
+			found = true
+		}
+	}
+	if !found {
+		t.Fatalf("no repair warning in %q", s.Warnings)
+	}
+	if st := RunStatOf(&RunTrace{Run: 0, Repairs: 4, SqErr: []float64{1}, NEES: []float64{1}}); st.Repairs != 4 {
+		t.Fatalf("RunStat repairs %d", st.Repairs)
 	}
 }

@@ -13,6 +13,8 @@ type RunTrace struct {
 	NsPerStep float64   // wall time of the filter steps divided by the steps
 	ESS       []float64 // effective sample size per step (nil for non-particle filters)
 
+	Repairs int // covariance repairs (jitter) the filter needed in this run
+
 	Diverged bool   // the run stopped early
 	DivStep  int    // step at which it diverged (1-based), 0 if not
 	Reason   string // why: "covariance not positive definite", "NaN estimate", "panic: ..."
@@ -34,6 +36,7 @@ type Summary struct {
 
 	NsPerStep float64 // median over runs of filter time per step
 	MeanESS   float64 // mean effective sample size (NaN for non-particle filters)
+	Repairs   int     // covariance repairs over all runs, diverged ones included
 
 	Warnings []string // degraded but usable results, each saying what to do
 }
@@ -65,4 +68,5 @@ type RunStat struct {
 	ANIS      float64 // mean of NIS over the steps with a measurement; NaN if none
 	NsPerStep float64 // as recorded in the trace, also for a diverged run
 	MeanESS   float64 // mean over steps of ESS; NaN without ESS
+	Repairs   int     // covariance repairs in the run
 }

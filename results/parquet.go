@@ -44,7 +44,7 @@ var summarySpecs = specsOf(SummaryColumns, map[string]colKind{
 
 var runSpecs = specsOf(RunColumns, map[string]colKind{
 	"problem": kString, "filter": kString, "config": kString, "reason": kString,
-	"run": kInt, "div_step": kInt, "diverged": kBool,
+	"run": kInt, "div_step": kInt, "diverged": kBool, "repairs": kInt,
 })
 
 var curveSpecs = specsOf(CurveColumns, map[string]colKind{
@@ -337,6 +337,7 @@ func (w *RunsWriter) Write(r RunRow) error {
 	t.float(9, r.ANIS)
 	t.float(10, r.NsPerStep)
 	t.float(11, r.MeanESS)
+	t.int(12, r.Repairs)
 	return t.endRow()
 }
 
@@ -519,7 +520,7 @@ func specNames(specs []colSpec) string {
 // ReadSummaryParquet reads a file written by WriteSummaryParquet. A row with
 // runs > 0 is Applicable and its note is split at "; " into Warnings; a
 // row with runs 0 is not, and its note is Note. Metrics not in the file
-// (NISInBounds, MeanESS) are NaN.
+// (NISInBounds) are NaN.
 func ReadSummaryParquet(path string) ([]SummaryRow, error) {
 	t, err := readTable(path, summarySpecs)
 	if err != nil {
@@ -536,7 +537,7 @@ func ReadSummaryParquet(path string) ([]SummaryRow, error) {
 			v[j] = t.flts[5+j][k]
 		}
 		setSummaryValues(r, &v)
-		r.NISInBounds, r.MeanESS = math.NaN(), math.NaN()
+		r.NISInBounds = math.NaN()
 		r.Applicable = r.Runs > 0
 		note := t.strs[last][k]
 		switch {
@@ -562,7 +563,7 @@ func ReadRunsParquet(path string) ([]RunRow, error) {
 			RunStat: metrics.RunStat{
 				Run: int(t.ints[3][k]), Diverged: t.bools[4][k], DivStep: int(t.ints[5][k]), Reason: t.strs[6][k],
 				RMSE: t.flts[7][k], ANEES: t.flts[8][k], ANIS: t.flts[9][k],
-				NsPerStep: t.flts[10][k], MeanESS: t.flts[11][k],
+				NsPerStep: t.flts[10][k], MeanESS: t.flts[11][k], Repairs: int(t.ints[12][k]),
 			},
 		}
 	}

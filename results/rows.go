@@ -15,13 +15,13 @@ var SummaryColumns = []string{
 	"rmse", "rmse_ci_lo", "rmse_ci_hi",
 	"anees", "anees_bound_lo", "anees_bound_hi", "nees_in_bounds",
 	"anis", "anis_bound_lo", "anis_bound_hi",
-	"ns_per_step", "allocs_per_step", "note",
+	"ns_per_step", "allocs_per_step", "mean_ess", "repairs", "note",
 }
 
 // RunColumns are the columns of runs.parquet, in order.
 var RunColumns = []string{
 	"problem", "filter", "config", "run", "diverged", "div_step", "reason",
-	"rmse", "anees", "anis", "ns_per_step", "mean_ess",
+	"rmse", "anees", "anis", "ns_per_step", "mean_ess", "repairs",
 }
 
 // CurveColumns are the columns of curves.parquet, in order.
@@ -96,7 +96,7 @@ func notesOf(r *SummaryRow) []string {
 }
 
 // summaryValues returns the float64 metric columns of a row in column order
-// (rmse .. allocs_per_step); all NaN when the row does not apply.
+// (rmse .. repairs); all NaN when the row does not apply.
 func summaryValues(r *SummaryRow) [summaryFloats]float64 {
 	if !r.Applicable {
 		var v [summaryFloats]float64
@@ -110,12 +110,12 @@ func summaryValues(r *SummaryRow) [summaryFloats]float64 {
 		s.RMSE, s.RMSELo, s.RMSEHi,
 		s.ANEES, s.ANEESLo, s.ANEESHi, s.NEESInBounds,
 		s.ANIS, s.ANISLo, s.ANISHi,
-		s.NsPerStep, r.AllocsPerStep,
+		s.NsPerStep, r.AllocsPerStep, s.MeanESS, float64(s.Repairs),
 	}
 }
 
 // summaryFloats is the number of float64 columns of the summary.
-const summaryFloats = 12
+const summaryFloats = 14
 
 // summaryCounts returns the runs and diverged columns; 0 when the row does
 // not apply.
@@ -133,4 +133,8 @@ func setSummaryValues(r *SummaryRow, v *[summaryFloats]float64) {
 	s.ANEES, s.ANEESLo, s.ANEESHi, s.NEESInBounds = v[3], v[4], v[5], v[6]
 	s.ANIS, s.ANISLo, s.ANISHi = v[7], v[8], v[9]
 	s.NsPerStep, r.AllocsPerStep = v[10], v[11]
+	s.MeanESS = v[12]
+	if !math.IsNaN(v[13]) {
+		s.Repairs = int(v[13])
+	}
 }

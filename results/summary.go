@@ -96,6 +96,7 @@ const (
 	hANIS
 	hTime
 	hAllocs
+	hESS
 	hNotes
 	hColumns
 )
@@ -104,7 +105,7 @@ const (
 const missing = "-"
 
 func buildHuman(rows []SummaryRow, prov Provenance) *human {
-	var rmse, anees, anis, ns, inb, allocs []float64
+	var rmse, anees, anis, ns, inb, allocs, ess []float64
 	for i := range rows {
 		r := &rows[i]
 		if !r.Applicable {
@@ -119,7 +120,11 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 		ns = append(ns, r.NsPerStep)
 		inb = append(inb, 100*r.NEESInBounds)
 		allocs = append(allocs, r.AllocsPerStep)
+		if !math.IsNaN(r.MeanESS) {
+			ess = append(ess, r.MeanESS)
+		}
 	}
+	scESS := scale{div: 1, decimals: decimalsFor(minNonzero(ess))}
 	scRMSE := magnitudeScale(rmse)
 	scANEES := magnitudeScale(anees)
 	scANIS := magnitudeScale(anis)
@@ -139,9 +144,10 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 			withFactor("ANIS", scANIS) + " [95% bounds]",
 			scTime.label + "/step",
 			"allocs/step",
+			"mean ESS",
 			"notes",
 		},
-		right: []bool{false, false, false, true, true, true, true, true, true, true, true, false},
+		right: []bool{false, false, false, true, true, true, true, true, true, true, true, true, false},
 		prov:  provenanceLine(prov),
 	}
 	index := map[string]int{} // note text -> footnote number
@@ -165,6 +171,7 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 			h.legend = true
 			c[hTime] = scTime.format(r.NsPerStep)
 			c[hAllocs] = scAllocs.format(r.AllocsPerStep)
+			c[hESS] = scESS.format(r.MeanESS)
 		}
 		var refs []string
 		for _, n := range notesOf(r) {
@@ -181,7 +188,19 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 		}
 		h.cells = append(h.cells, c)
 	}
+	if len(ess) == 0 {
+		h.drop(hESS) // no particle or ensemble filter in the table
+	}
 	return h
+}
+
+// drop removes column i from the layout.
+func (h *human) drop(i int) {
+	h.head = append(h.head[:i:i], h.head[i+1:]...)
+	h.right = append(h.right[:i:i], h.right[i+1:]...)
+	for k, c := range h.cells {
+		h.cells[k] = append(c[:i:i], c[i+1:]...)
+	}
 }
 
 // legend explains the consistency columns.
