@@ -788,3 +788,59 @@ func TestPFAngleState(t *testing.T) {
 		t.Errorf("S = %v, want about %v", s[0], want)
 	}
 }
+
+// kfCase is a linear-Gaussian problem of the convergence checks.
+type kfCase struct {
+	name   string
+	m      *filters.Model
+	x0, p0 []float64
+	seeds  []uint64
+}
+
+// kfCases are the problems of TestPFApproachesKF: CV2D (Nx = 4, Nz = 2,
+// singular Q) and the scalar random walk.
+func kfCases() []kfCase {
+	cvx0, cvp0 := filtertest.CV2DPrior()
+	return []kfCase{
+		{"cv2d", filtertest.CV2D(0.5, 4), cvx0, cvp0, []uint64{11, 12, 13, 14, 15, 16}},
+		{"randomwalk", scalarRW(1, 2), []float64{0}, []float64{4}, []uint64{21, 22, 23, 24, 25, 26, 27, 28, 29, 30}},
+	}
+}
+
+// kfLimit states how a Monte Carlo filter approaches the kf: the window of
+// the fitted log-log slope of each gap over N = 100, 1000, 10000, and the
+// largest gaps at N = 10000 (mean, innovation, covariance, innovation
+// covariance, in the units of gap).
+type kfLimit struct {
+	slopeLo, slopeHi float64
+	bounds           [4]float64
+}
+
+// checkApproachesKF runs newF(m, N) against the kf on kfCases for N = 100,
+// 1000, 10000 and checks the gaps against limit(case, gap at N = 10000).
+func checkApproachesKF(t *testing.T, newF func(m *filters.Model, n int) filters.Filter, limit func(c kfCase, last gap) kfLimit) {
+	ns := []float64{100, 1000, 10000}
+	for _, c := range kfCases() {
+		t.Run(c.name, func(t *testing.T) {
+			gs := make([]gap, len(ns))
+			for i, n := range ns {
+				gs[i] = kfGap(t, c.m, newF(c.m, int(n)), c.x0, c.p0, 10, 40, c.seeds)
+				t.Logf("N=%5.0f: N·mean %.3g, N·nu %.3g, N·cov %.3g (iid %.3g), N·s %.3g (iid %.3g)",
+					n, n*gs[i].mean, n*gs[i].nu, n*gs[i].cov, gs[i].iidP, n*gs[i].s, gs[i].iidS)
+			}
+			lim := limit(c, gs[len(gs)-1])
+			for qi, what := range []string{"mean", "innovation", "covariance", "innovation covariance"} {
+				ys := make([]float64, len(gs))
+				for i, g := range gs {
+					ys[i] = [4]float64{g.mean, g.nu, g.cov, g.s}[qi]
+				}
+				if b := slope(ns, ys); b < lim.slopeLo || b > lim.slopeHi {
+					t.Errorf("%s gap falls like N^%.2f, want a slope in [%.2f, %.2f]; gaps %.3g", what, b, lim.slopeLo, lim.slopeHi, ys)
+				}
+				if got := ys[len(ys)-1]; got > lim.bounds[qi] {
+					t.Errorf("%s gap at N=%.0f is %.3g, want <= %.3g", what, ns[len(ns)-1], got, lim.bounds[qi])
+				}
+			}
+		})
+	}
+}
