@@ -13,7 +13,8 @@ func builtinFilters() []FilterSpec {
 			Name:    "kf",
 			Summary: "linear Kalman filter, Joseph-form covariance update",
 			Source:  "Kalman 1960, J. Basic Eng. 82(1); Joseph form: Bar-Shalom et al. 2001, §5.2",
-			Traits:  "needs a linear model",
+			Traits:  "needs a linear model with additive noise",
+			Params:  jitterParams(),
 			Applies: func(t datasets.Traits) (bool, string) {
 				if !t.Linear {
 					return false, "needs a linear model; {problem} is nonlinear"
@@ -21,7 +22,7 @@ func builtinFilters() []FilterSpec {
 				return additiveOnly(t)
 			},
 			New: func(m *filters.Model, v Values) (filters.Filter, error) {
-				return filters.NewKF(m, filters.KFConfig{})
+				return filters.NewKF(m, filters.KFConfig{Jitter: v.Float("jitter"), JitterMax: v.Float("jitter_max")})
 			},
 		},
 		{
@@ -71,6 +72,17 @@ func builtinFilters() []FilterSpec {
 				return filters.NewPF(m, filters.PFConfig{Particles: v.Int("particles"), ResampleThreshold: v.Float("resample_ess")})
 			},
 		},
+	}
+}
+
+// jitterParams are the parameters of the optional jitter repair that the
+// Gaussian filters share (filters.UKFConfig.Jitter).
+func jitterParams() []Param {
+	return []Param{
+		{Name: "jitter", Kind: Float, Default: Value{Num: 0}, Min: 0, Max: 1,
+			Doc: "first relative jitter ε added to a covariance whose Cholesky factorization fails, ×10 per retry (0 = off; repairs are counted)"},
+		{Name: "jitter_max", Kind: Float, Default: Value{Num: filters.DefaultJitterMax}, Min: 1e-15, Max: 1,
+			Doc: "largest relative jitter tried"},
 	}
 }
 

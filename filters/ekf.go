@@ -13,6 +13,9 @@ type EKFConfig struct {
 	// which balances truncation and rounding error of central differences;
 	// common practice, no source).
 	Step float64
+	// Jitter and JitterMax configure the jitter repair of a failed
+	// Cholesky factorization of S, as in UKFConfig. Default 0: off.
+	Jitter, JitterMax float64
 }
 
 // DefaultEKFStep is the central-difference step used when EKFConfig.Step
@@ -36,8 +39,9 @@ const DefaultEKFStep = 1e-6
 // (EKFConfig.Step, default 1e-6), with the differences of angle outputs
 // wrapped; this costs 2*Nx calls of F or H per step.
 //
-// On a linear model the EKF is the Kalman filter. It implements Filter and
-// Innovator.
+// On a linear model the EKF is the Kalman filter. It needs additive noise
+// (NewEKF refuses a model with FW or HV). It implements Filter, Innovator
+// and Repairer (jitter repair of S as in UKFConfig, off by default).
 type EKF struct {
 	c linCore
 }
@@ -53,8 +57,16 @@ func NewEKF(m *Model, cfg EKFConfig) (*EKF, error) {
 	if !(step > 0) {
 		return nil, errors.New("filters: ekf: Step must be positive")
 	}
+	if !m.Additive() {
+		return nil, errors.New("filters: ekf needs additive noise (the model has FW or HV)")
+	}
+	jit, err := newJitter("ekf", cfg.Jitter, cfg.JitterMax)
+	if err != nil {
+		return nil, err
+	}
 	f := &EKF{}
 	f.c.init(m)
+	f.c.jit = jit
 	f.c.step = step
 	f.c.wrapState = true
 	return f, nil
@@ -75,3 +87,6 @@ func (f *EKF) EstimateTo(x, p []float64) { f.c.estimateTo(x, p) }
 // InnovationTo implements Innovator. s may be nil. It reports false after
 // Predict until an Update with a measurement succeeds.
 func (f *EKF) InnovationTo(nu, s []float64) bool { return f.c.innovationTo(nu, s) }
+
+// Repairs implements Repairer: the jitter repairs since Reset.
+func (f *EKF) Repairs() int { return f.c.jit.repairs }

@@ -6,9 +6,12 @@ import (
 	"math/rand/v2"
 )
 
-// KFConfig configures NewKF. It has no fields yet: the zero value is the
-// only configuration.
-type KFConfig struct{}
+// KFConfig configures NewKF. The zero value gives the defaults.
+type KFConfig struct {
+	// Jitter and JitterMax configure the jitter repair of a failed
+	// Cholesky factorization of S, as in UKFConfig. Default 0: off.
+	Jitter, JitterMax float64
+}
 
 // KF is the Kalman filter (Kalman 1960, "A new approach to linear filtering
 // and prediction problems") for models with Model.Linear set.
@@ -27,8 +30,10 @@ type KFConfig struct{}
 // central differences of F or H about the origin with unit step (2*Nx
 // calls per step), which is exact for affine maps up to rounding.
 //
-// KF has no parameters. It implements Filter and Innovator, and keeps the
-// Gaussian log-likelihood of the innovations (LogLikelihood).
+// KF has no parameters besides the optional jitter repair (KFConfig). It
+// needs additive noise (NewKF refuses a model with FW or HV). It implements
+// Filter, Innovator and Repairer, and keeps the Gaussian log-likelihood of
+// the innovations (LogLikelihood).
 type KF struct {
 	c linCore
 }
@@ -40,8 +45,16 @@ func NewKF(m *Model, cfg KFConfig) (*KF, error) {
 	if !m.Linear {
 		return nil, errors.New("filters: kf needs a linear model (Model.Linear is false)")
 	}
+	if !m.Additive() {
+		return nil, errors.New("filters: kf needs additive noise (the model has FW or HV)")
+	}
+	jit, err := newJitter("kf", cfg.Jitter, cfg.JitterMax)
+	if err != nil {
+		return nil, err
+	}
 	f := &KF{}
 	f.c.init(m)
+	f.c.jit = jit
 	f.c.atOrigin = true
 	f.c.step = 1
 	f.c.trackLik = true
@@ -63,6 +76,9 @@ func (f *KF) EstimateTo(x, p []float64) { f.c.estimateTo(x, p) }
 // InnovationTo implements Innovator. s may be nil. It reports false after
 // Predict until an Update with a measurement succeeds.
 func (f *KF) InnovationTo(nu, s []float64) bool { return f.c.innovationTo(nu, s) }
+
+// Repairs implements Repairer: the jitter repairs since Reset.
+func (f *KF) Repairs() int { return f.c.jit.repairs }
 
 // LogLikelihood returns the Gaussian log-likelihood of the innovations of
 // all updates with a measurement since Reset,
@@ -104,6 +120,8 @@ type linCore struct {
 	// step (EKF); KF leaves the state as the linear model gives it.
 	wrapState bool
 
+	jit jitter // optional repair of a failed Cholesky factorization of S
+
 	hasInnov bool    // the last Update had a measurement and succeeded
 	trackLik bool    // accumulate loglik (KF)
 	loglik   float64 // accumulated innovation log-likelihood since Reset
@@ -112,15 +130,15 @@ type linCore struct {
 	a    []float64 // transition Jacobian A (nx*nx)
 	cj   []float64 // measurement Jacobian C (nz*nx)
 	fx   []float64 // F(x) (nx)
-	ap   []float64 // A P in Predict, M = (I-KC) P in Update (nx*nx)
+	ap   []float64 // A P in Predict, I − K C in Update (nx*nx)
 	zhat []float64 // predicted measurement H(x) (nz)
 	nu   []float64 // innovation z - zhat, angles wrapped (nz)
 	s    []float64 // innovation covariance S = C P Cᵀ + R (nz*nz)
 	l    []float64 // lower Cholesky factor of S (nz*nz)
 	pct  []float64 // cross covariance P Cᵀ (nx*nz)
 	k    []float64 // gain K (nx*nz)
-	tmp  []float64 // K (P Cᵀ)ᵀ, then (K R - M Cᵀ) Kᵀ (nx*nx)
-	kr   []float64 // M Cᵀ, then K R - M Cᵀ (nx*nz)
+	tmp  []float64 // (I − K C) P, then K R Kᵀ (nx*nx)
+	kr   []float64 // K R (nx*nz)
 	w    []float64 // L⁻¹ ν for the likelihood (nz)
 	xt   []float64 // perturbed point for differences (nx)
 	dp   []float64 // function value at x + h (max(nx,nz))
@@ -159,6 +177,7 @@ func (c *linCore) reset(x0, p0 []float64) error {
 	symmetrize(c.p, c.nx) // the steps rely on an exactly symmetric P
 	c.hasInnov = false
 	c.loglik = 0
+	c.jit.repairs = 0
 	if !allFinite(c.x) || !allFinite(c.p) {
 		return ErrNonFinite
 	}
@@ -171,7 +190,7 @@ func (c *linCore) predict(k int) error {
 	if c.m.FJac != nil {
 		c.m.FJac(c.a, c.x, k)
 	} else {
-		c.diffJac(c.a, c.m.F, nx, c.m.AngleState, k)
+		c.diffJac(c.a, c.m.F, nx, c.m.AngleState, c.x, k)
 	}
 	c.m.F(c.fx, c.x, k)
 	copy(c.x, c.fx)
@@ -206,7 +225,7 @@ func (c *linCore) update(z []float64, k int) error {
 	if c.m.HJac != nil {
 		c.m.HJac(c.cj, c.x, k)
 	} else {
-		c.diffJac(c.cj, c.m.H, nz, c.m.AngleMeas, k)
+		c.diffJac(c.cj, c.m.H, nz, c.m.AngleMeas, c.x, k)
 	}
 	for i := range c.nu {
 		c.nu[i] = z[i] - c.zhat[i]
@@ -215,18 +234,9 @@ func (c *linCore) update(z []float64, k int) error {
 		c.nu[i] = wrapAngle(c.nu[i])
 	}
 
-	// S = C P Cᵀ + R, K = P Cᵀ S⁻¹ by Cholesky.
-	abt(c.pct, c.p, c.cj, nx, nx, nz, false)
-	mul(c.s, c.cj, c.pct, nz, nx, nz)
-	for i, r := range c.m.R {
-		c.s[i] += r
-	}
-	symmetrize(c.s, nz)
-	if !cholesky(c.l, c.s, nz) {
+	if !c.gain() {
 		return ErrNotPosDef
 	}
-	copy(c.k, c.pct)
-	cholSolveRowsT(c.l, c.k, nx, nz)
 
 	// x += K ν
 	for i := 0; i < nx; i++ {
@@ -242,35 +252,7 @@ func (c *linCore) update(z []float64, k int) error {
 			c.x[i] = wrapAngle(c.x[i])
 		}
 	}
-
-	// Joseph form P = (I-KC) P (I-KC)ᵀ + K R Kᵀ, evaluated without forming
-	// I-KC: with M = (I-KC) P = P - K (P Cᵀ)ᵀ,
-	// P = M - (M Cᵀ) Kᵀ + (K R) Kᵀ = M + (K R - M Cᵀ) Kᵀ,
-	// of which only the upper triangle is computed and then mirrored.
-	abt(c.tmp, c.k, c.pct, nx, nz, nx, false)
-	for i, v := range c.tmp {
-		c.ap[i] = c.p[i] - v // M
-	}
-	abt(c.kr, c.ap, c.cj, nx, nx, nz, false) // M Cᵀ
-	for i := 0; i < nx; i++ {
-		ki := c.k[i*nz : i*nz+nz]
-		gi := c.kr[i*nz : i*nz+nz]
-		for j := 0; j < nz; j++ {
-			var s float64
-			for l, kv := range ki {
-				s += kv * c.m.R[l*nz+j]
-			}
-			gi[j] = s - gi[j] // (K R - M Cᵀ)
-		}
-	}
-	abt(c.tmp, c.kr, c.k, nx, nz, nx, true) // upper triangle read only
-	for i := 0; i < nx; i++ {
-		for j := i; j < nx; j++ {
-			v := c.ap[i*nx+j] + c.tmp[i*nx+j]
-			c.p[i*nx+j] = v
-			c.p[j*nx+i] = v
-		}
-	}
+	c.joseph()
 
 	if c.trackLik {
 		c.addLogLik()
@@ -280,6 +262,51 @@ func (c *linCore) update(z []float64, k int) error {
 	}
 	c.hasInnov = true
 	return nil
+}
+
+// gain forms S = C P Cᵀ + R, its Cholesky factor (with the jitter repair,
+// if on) and K = P Cᵀ S⁻¹ from c.cj and c.p. It reports false if S is not
+// positive definite.
+func (c *linCore) gain() bool {
+	nx, nz := c.nx, c.nz
+	abt(c.pct, c.p, c.cj, nx, nx, nz, false)
+	mul(c.s, c.cj, c.pct, nz, nx, nz)
+	for i, r := range c.m.R {
+		c.s[i] += r
+	}
+	symmetrize(c.s, nz)
+	if !c.jit.chol(c.l, c.s, nz) {
+		return false
+	}
+	copy(c.k, c.pct)
+	cholSolveRowsT(c.l, c.k, nx, nz)
+	return true
+}
+
+// joseph replaces P by the Joseph form (I−KC) P (I−KC)ᵀ + K R Kᵀ for the
+// gain c.k and Jacobian c.cj, evaluated as written, as the sum of two
+// congruences of positive semi-definite matrices: it stays positive
+// semi-definite under rounding for any gain. (The algebraically equal
+// P − K C P, or the Joseph form expanded into P − K (P Cᵀ)ᵀ + ..., lose
+// that when K C P nearly cancels P, as for a measurement far more precise
+// than the prediction.)
+func (c *linCore) joseph() {
+	nx, nz := c.nx, c.nz
+	// A = I − K C in ap.
+	mul(c.ap, c.k, c.cj, nx, nz, nx)
+	for i := range c.ap {
+		c.ap[i] = -c.ap[i]
+	}
+	for i := 0; i < nx; i++ {
+		c.ap[i*nx+i] += 1
+	}
+	abt(c.tmp, c.ap, c.p, nx, nx, nx, false) // A P (P symmetric)
+	abt(c.p, c.tmp, c.ap, nx, nx, nx, true)  // (A P) Aᵀ
+	mul(c.kr, c.k, c.m.R, nx, nz, nz)        // K R
+	abt(c.tmp, c.kr, c.k, nx, nz, nx, true)  // K R Kᵀ
+	for i, v := range c.tmp {
+		c.p[i] += v
+	}
 }
 
 // addLogLik adds the log-likelihood term −½(nz log 2π + log det S + |L⁻¹ν|²)
@@ -354,17 +381,17 @@ func abt(dst, a, b []float64, m, k, n int, sym bool) {
 }
 
 // diffJac writes the central-difference Jacobian of g (ny outputs) into
-// dst (ny*nx, row-major), about c.x with step c.step*max(1,|x_i|), or about
+// dst (ny*nx, row-major), about at with step c.step*max(1,|x_i|), or about
 // the origin with step c.step if c.atOrigin. Differences of the output
-// components listed in angles are wrapped.
-func (c *linCore) diffJac(dst []float64, g func(dst, x []float64, k int), ny int, angles []int, k int) {
+// components listed in angles are wrapped. at must not be c.xt.
+func (c *linCore) diffJac(dst []float64, g func(dst, x []float64, k int), ny int, angles []int, at []float64, k int) {
 	nx := c.nx
 	if c.atOrigin {
 		for i := range c.xt {
 			c.xt[i] = 0
 		}
 	} else {
-		copy(c.xt, c.x)
+		copy(c.xt, at)
 	}
 	dp, dm := c.dp[:ny], c.dm[:ny]
 	for j := 0; j < nx; j++ {
