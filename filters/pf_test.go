@@ -7,6 +7,9 @@ import (
 	"slices"
 	"testing"
 
+	"gonum.org/v1/gonum/integrate/quad"
+	"gonum.org/v1/gonum/stat/distuv"
+
 	"github.com/estbench/estbench/filters"
 	"github.com/estbench/estbench/filters/filtertest"
 )
@@ -816,11 +819,15 @@ type kfLimit struct {
 	bounds           [4]float64
 }
 
-// checkApproachesKF runs newF(m, N) against the kf on kfCases for N = 100,
-// 1000, 10000 and checks the gaps against limit(case, gap at N = 10000).
-func checkApproachesKF(t *testing.T, newF func(m *filters.Model, n int) filters.Filter, limit func(c kfCase, last gap) kfLimit) {
+// checkApproachesKF runs newF(m, N) against the kf on kfCases (or only
+// those named) for N = 100, 1000, 10000 and checks the gaps against
+// limit(case, gap at N = 10000).
+func checkApproachesKF(t *testing.T, newF func(m *filters.Model, n int) filters.Filter, limit func(c kfCase, last gap) kfLimit, only ...string) {
 	ns := []float64{100, 1000, 10000}
 	for _, c := range kfCases() {
+		if len(only) > 0 && !slices.Contains(only, c.name) {
+			continue
+		}
 		t.Run(c.name, func(t *testing.T) {
 			gs := make([]gap, len(ns))
 			for i, n := range ns {
@@ -842,5 +849,202 @@ func checkApproachesKF(t *testing.T, newF func(m *filters.Model, n int) filters.
 				}
 			}
 		})
+	}
+}
+
+// Roughening (Gordon, Salmond & Smith 1993, §3.3 (section from memory))
+// adds to every component c of every resampled particle an independent
+// N(0, σ_c²) draw, σ_c = K·E_c·N^(−1/d), E_c the range of component c over
+// the resampled particles. A pf with K = 0 on the same stream holds the
+// resampled cloud itself, so the differences must have mean zero and
+// standard deviation σ_c: within 5·σ_c/√N and a relative 5/√(2N) (normal
+// approximations for a sample mean and standard deviation; 5 is our
+// choice). On CV2D (d = 4) and on the random walk (d = 1).
+func TestPFRoughening(t *testing.T) {
+	const n, k = 4000, 0.2
+	for _, c := range kfCases() {
+		t.Run(c.name, func(t *testing.T) {
+			d := c.m.Nx
+			plain := newPF(t, c.m, filters.PFConfig{Particles: n})
+			rough := newPF(t, c.m, filters.PFConfig{Particles: n, Roughening: k})
+			z := make([]float64, c.m.Nz)
+			for _, f := range []*filters.PF{plain, rough} {
+				if err := f.Reset(c.x0, c.p0, rand.New(rand.NewPCG(3, 1))); err != nil {
+					t.Fatal(err)
+				}
+				if err := f.Predict(1); err != nil {
+					t.Fatal(err)
+				}
+				if err := f.Update(z, 1); err != nil {
+					t.Fatal(err)
+				}
+				if filters.PFResamples(f) != 1 {
+					t.Fatal("no resampling")
+				}
+			}
+			a, b := filters.PFParticles(plain), filters.PFParticles(rough)
+			for comp := 0; comp < d; comp++ {
+				lo, hi := math.Inf(1), math.Inf(-1)
+				var s1, s2 float64
+				for i := comp; i < len(a); i += d {
+					lo, hi = min(lo, a[i]), max(hi, a[i])
+					e := b[i] - a[i]
+					s1 += e
+					s2 += e * e
+				}
+				sig := k * (hi - lo) * math.Pow(n, -1/float64(d))
+				mean := s1 / n
+				sd := math.Sqrt(s2/n - mean*mean)
+				if math.Abs(mean) > 5*sig/math.Sqrt(n) {
+					t.Errorf("component %d: mean jitter %.3g, want 0 ± %.3g", comp, mean, 5*sig/math.Sqrt(n))
+				}
+				if math.Abs(sd/sig-1) > 5/math.Sqrt(2*n) {
+					t.Errorf("component %d: jitter sd %.4g, want K·E·N^(-1/d) = %.4g", comp, sd, sig)
+				}
+			}
+		})
+	}
+	if _, err := filters.NewPF(scalarRW(1, 1), filters.PFConfig{Roughening: -1}); err == nil {
+		t.Error("negative Roughening accepted")
+	}
+}
+
+// With Model.MeasLogLik the pf weights by the exact likelihood. A scalar
+// state x ~ N(0, 1) (Q = 0 keeps it there) is measured once as z = 8 with
+// Student-t noise, ν = 3, scale 1, whose variance ν/(ν−2) = 3 is the
+// Gaussian R. Under the Gaussian likelihood the posterior mean is
+// z·1/(1+3) = 2 (Kalman 1960), pulled towards the outlier; under the t
+// likelihood the heavy tail discounts it (the outlier-robust answer of
+// Masreliez & Martin 1977, "Robust Bayesian estimation for the linear
+// model and robustifying the Kalman filter", IEEE TAC 22(3), from memory),
+// and the reference is the posterior mean by Gauss-Legendre quadrature
+// (gonum's integrate/quad) of the prior times gonum's distuv.StudentsT
+// density. With N = 20000 particles each pf mean must be within 5
+// standard errors sqrt(P/ESS) of its reference (5 is our choice), and the
+// two answers differ by more than 1.
+func TestPFMeasLogLik(t *testing.T) {
+	st := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: 3}
+	gauss := scalarRW(0, 3)
+	heavy := scalarRW(0, 3)
+	heavy.MeasLogLik = func(z, x []float64, _ int) float64 { return st.LogProb(z[0] - x[0]) }
+	const z, n = 8.0, 20000
+	post := func(x float64) float64 { return math.Exp(-x*x/2 + st.LogProb(z-x)) }
+	norm := quad.Fixed(post, -20, 30, 400, quad.Legendre{}, 0)
+	refT := quad.Fixed(func(x float64) float64 { return x * post(x) }, -20, 30, 400, quad.Legendre{}, 0) / norm
+	refG := z / 4
+	if math.Abs(refT-refG) < 1 {
+		t.Fatalf("reference means %v (t) and %v (Gaussian) too close for the test", refT, refG)
+	}
+	for _, c := range []struct {
+		name string
+		m    *filters.Model
+		ref  float64
+	}{{"gaussian", gauss, refG}, {"student-t", heavy, refT}} {
+		f := newPF(t, c.m, filters.PFConfig{Particles: n})
+		if err := f.Reset([]float64{0}, []float64{1}, rand.New(rand.NewPCG(12, 1))); err != nil {
+			t.Fatal(err)
+		}
+		if err := f.Predict(1); err != nil {
+			t.Fatal(err)
+		}
+		if err := f.Update([]float64{z}, 1); err != nil {
+			t.Fatal(err)
+		}
+		x, p := make([]float64, 1), make([]float64, 1)
+		f.EstimateTo(x, p)
+		if se := math.Sqrt(p[0] / f.ESS()); math.Abs(x[0]-c.ref) > 5*se {
+			t.Errorf("%s: posterior mean %.4f, want %.4f ± %.3g", c.name, x[0], c.ref, 5*se)
+		}
+		// The innovation uses R as the moment-matched covariance: S = 1 + 3.
+		nu, s := make([]float64, 1), make([]float64, 1)
+		if !f.InnovationTo(nu, s) || math.Abs(s[0]-4) > 5*4*math.Sqrt(2.0/n) || math.Abs(nu[0]-z) > 5/math.Sqrt(n) {
+			t.Errorf("%s: innovation %v, S %v; want about %v and 4", c.name, nu, s, z)
+		}
+	}
+	filtertest.NoAllocs(t, newPF(t, heavy, filters.PFConfig{Particles: 200}), heavy, []float64{0}, []float64{1}, nil)
+}
+
+// Non-additive noise. A model with HV (measurement noise not additive)
+// needs MeasLogLik, else NewPF refuses it. With HV(x, v) = x + v and the
+// Gaussian MeasLogLik of R the problem is the random walk again: from
+// x0 ~ N(0, 4) with Q = 1 and R = 2 the predicted measurement has variance
+// 4 + 1 + 2 = 7 (Kalman 1960), which the pf now estimates from sampled
+// HV(x_i, v_i): within a relative 5·sqrt(2/N) (normal approximation for a
+// sample variance). The posterior mean after z = 3 is 3·5/7 (Kalman 1960),
+// within 5 standard errors sqrt(P/ESS). A model with FW = F + w draws the
+// same noise as the additive one and must give bit-identical estimates,
+// for pf, apf and rpf.
+func TestPFNonAdditive(t *testing.T) {
+	m := scalarRW(1, 2)
+	m.HMany = nil
+	m.Nv = 1
+	m.HV = func(dst, x, v []float64, _ int) { dst[0] = x[0] + v[0] }
+	if _, err := filters.NewPF(m, filters.PFConfig{}); err == nil {
+		t.Error("NewPF accepts HV without MeasLogLik")
+	}
+	if _, err := filters.NewAPF(m, filters.APFConfig{}); err == nil {
+		t.Error("NewAPF accepts HV without MeasLogLik")
+	}
+	m.MeasLogLik = func(z, x []float64, _ int) float64 { d := z[0] - x[0]; return -d * d / 4 }
+	const n = 20000
+	for _, f := range []filters.Filter{newPF(t, m, filters.PFConfig{Particles: n}), newAPF(t, m, filters.APFConfig{Particles: n})} {
+		if err := f.Reset([]float64{0}, []float64{4}, rand.New(rand.NewPCG(13, 1))); err != nil {
+			t.Fatal(err)
+		}
+		if err := f.Predict(1); err != nil {
+			t.Fatal(err)
+		}
+		if err := f.Update([]float64{3}, 1); err != nil {
+			t.Fatal(err)
+		}
+		nu, s := make([]float64, 1), make([]float64, 1)
+		if !f.(filters.Innovator).InnovationTo(nu, s) {
+			t.Fatal("no innovation")
+		}
+		if math.Abs(s[0]/7-1) > 5*math.Sqrt(2.0/n) {
+			t.Errorf("%T: S = %v, want 7", f, s[0])
+		}
+		x, p := make([]float64, 1), make([]float64, 1)
+		f.EstimateTo(x, p)
+		if se := math.Sqrt(p[0] / f.(filters.ESSer).ESS()); math.Abs(x[0]-15.0/7) > 5*se {
+			t.Errorf("%T: posterior mean %v, want 15/7 ± %.3g", f, x[0], 5*se)
+		}
+		filtertest.NoAllocs(t, f, m, []float64{0}, []float64{4}, nil)
+	}
+
+	cv := filtertest.CV2D(0.5, 4)
+	checkSameAsFW(t, cv, func(m *filters.Model) filters.Filter { return newPF(t, m, filters.PFConfig{Particles: 300}) })
+	checkSameAsFW(t, cv, func(m *filters.Model) filters.Filter { return newAPF(t, m, filters.APFConfig{Particles: 300}) })
+	checkSameAsFW(t, cv, func(m *filters.Model) filters.Filter { return newRPF(t, m, filters.RPFConfig{Particles: 300}) })
+}
+
+// Every resampling scheme, with and without roughening, keeps the steps
+// allocation-free, and the pf converges to the kf with each scheme as with
+// the systematic one (TestPFApproachesKF, same slopes and bounds), checked
+// on CV2D only (the scalar path resamples with the same code).
+func TestPFSchemes(t *testing.T) {
+	cv := filtertest.CV2D(0.5, 4)
+	cx, cp := filtertest.CV2DPrior()
+	ug := ungmModel()
+	for _, s := range schemes {
+		for _, k := range []float64{0, 0.1} {
+			cfg := filters.PFConfig{Particles: 200, Resample: s, Roughening: k, ResampleThreshold: 0.7}
+			filtertest.NoAllocs(t, newPF(t, cv, cfg), cv, cx, cp, nil)
+			filtertest.NoAllocs(t, newPF(t, ug, cfg), ug, []float64{0.5}, []float64{5}, nil)
+		}
+		if s == filters.ResampleSystematic {
+			continue // TestPFApproachesKF
+		}
+		t.Run(s.String(), func(t *testing.T) {
+			checkApproachesKF(t, func(m *filters.Model, n int) filters.Filter {
+				return newPF(t, m, filters.PFConfig{Particles: n, Resample: s})
+			}, func(c kfCase, last gap) kfLimit {
+				nx, nz := float64(c.m.Nx), float64(c.m.Nz)
+				return kfLimit{-1.3, -0.7, [4]float64{20 * nx / 1e4, 20 * nz / 1e4, 10 * last.iidP / 1e4, 10 * last.iidS / 1e4}}
+			}, "cv2d")
+		})
+	}
+	if _, err := filters.NewPF(cv, filters.PFConfig{Resample: filters.Resampling(9)}); err == nil {
+		t.Error("unknown scheme accepted")
 	}
 }
