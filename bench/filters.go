@@ -30,9 +30,9 @@ func builtinFilters() []FilterSpec {
 			Summary: "extended Kalman filter; analytic Jacobians when the model has them, else central differences",
 			Source:  "Jazwinski 1970, Stochastic Processes and Filtering Theory; Bar-Shalom et al. 2001, §10.3",
 			Traits:  "needs a differentiable model",
-			Params: []Param{
+			Params: append([]Param{
 				{Name: "diff_step", Kind: Float, Default: Value{Num: 1e-6}, Doc: "relative central-difference step when the model has no Jacobian", Min: 1e-12, Max: 1},
-			},
+			}, jitterParams()...),
 			Applies: func(t datasets.Traits) (bool, string) {
 				if !t.Differentiable {
 					return false, "needs a differentiable model; {problem} " + phrase(t.NonDifferentiable, "is not differentiable")
@@ -40,22 +40,90 @@ func builtinFilters() []FilterSpec {
 				return additiveOnly(t)
 			},
 			New: func(m *filters.Model, v Values) (filters.Filter, error) {
-				return filters.NewEKF(m, filters.EKFConfig{Step: v.Float("diff_step")})
+				return filters.NewEKF(m, filters.EKFConfig{Step: v.Float("diff_step"), Jitter: v.Float("jitter"), JitterMax: v.Float("jitter_max")})
 			},
 		},
 		{
 			Name:    "ukf",
-			Summary: "unscented Kalman filter, scaled sigma points, additive noise",
-			Source:  "Julier 2002, Proc. American Control Conf.; Wan & van der Merwe 2000, Proc. IEEE AS-SPCC",
+			Summary: "unscented Kalman filter, additive noise; sigma points scaled (default), symmetric or spherical simplex; Joseph-form update",
+			Source:  "Julier 2002 and Julier 2003, Proc. American Control Conf.; Julier & Uhlmann 1997, Proc. SPIE 3068; Wan & van der Merwe 2000, Proc. IEEE AS-SPCC",
+			Traits:  "any model with additive noise (for non-additive noise see ukf-aug)",
+			Params:  ukfParams(),
+			Applies: additiveOnly,
+			New: func(m *filters.Model, v Values) (filters.Filter, error) {
+				return filters.NewUKF(m, ukfConfig(v, false))
+			},
+		},
+		{
+			Name:    "ukf-aug",
+			Summary: "unscented Kalman filter with the state augmented by the process noise (predict) and the measurement noise (update); sigma points as ukf",
+			Source:  "Wan & van der Merwe 2000, Proc. IEEE AS-SPCC, §4; sigma points as ukf",
+			Traits:  "any model; noise may enter non-additively (the model's FW/HV), additive noise is augmented too",
+			Params:  ukfParams(),
+			Applies: func(datasets.Traits) (bool, string) { return true, "" },
+			New: func(m *filters.Model, v Values) (filters.Filter, error) {
+				return filters.NewUKF(m, ukfConfig(v, true))
+			},
+		},
+		{
+			Name:    "iekf",
+			Summary: "iterated extended Kalman filter: Gauss-Newton measurement update, Joseph-form covariance",
+			Source:  "Bell & Cathey 1993, IEEE TAC 38(2)",
+			Traits:  "needs a differentiable model with additive noise",
+			Params: append([]Param{
+				{Name: "max_iter", Kind: Int, Default: Value{Num: filters.DefaultIEKFMaxIter}, Doc: "largest number of Gauss-Newton iterations per update (1 = ekf)", Min: 1, Max: 1000},
+				{Name: "tol", Kind: Float, Default: Value{Num: filters.DefaultIEKFTol}, Doc: "stop when no component moves by more than tol × max(1, |x_i|)", Min: 1e-16, Max: 1},
+				{Name: "diff_step", Kind: Float, Default: Value{Num: 1e-6}, Doc: "relative central-difference step when the model has no Jacobian", Min: 1e-12, Max: 1},
+			}, jitterParams()...),
+			Applies: func(t datasets.Traits) (bool, string) {
+				if !t.Differentiable {
+					return false, "needs a differentiable model; {problem} " + phrase(t.NonDifferentiable, "is not differentiable")
+				}
+				return additiveOnly(t)
+			},
+			New: func(m *filters.Model, v Values) (filters.Filter, error) {
+				return filters.NewIEKF(m, filters.IEKFConfig{MaxIter: v.Int("max_iter"), Tol: v.Float("tol"), Step: v.Float("diff_step"),
+					Jitter: v.Float("jitter"), JitterMax: v.Float("jitter_max")})
+			},
+		},
+		{
+			Name:    "srukf",
+			Summary: "square-root unscented Kalman filter: Cholesky factor propagated by QR and rank-one updates, scaled sigma points",
+			Source:  "van der Merwe & Wan 2001, Proc. IEEE ICASSP; Julier 2002, Proc. American Control Conf.",
 			Traits:  "any model with additive noise",
-			Params: []Param{
+			Params: append([]Param{
 				{Name: "alpha", Kind: Float, Default: Value{Num: 1}, Doc: "spread of the sigma points", Min: 1e-6, Max: 10},
 				{Name: "beta", Kind: Float, Default: Value{Num: 2}, Doc: "prior knowledge of the distribution (2 for Gaussian)", Min: -1e3, Max: 1e3},
 				{Name: "kappa", Kind: Float, Default: Value{Num: 0}, Doc: "secondary scaling", Min: -1e3, Max: 1e3},
-			},
+			}, jitterParams()...),
 			Applies: additiveOnly,
 			New: func(m *filters.Model, v Values) (filters.Filter, error) {
-				return filters.NewUKF(m, filters.UKFConfig{Alpha: v.Float("alpha"), Beta: v.Float("beta"), Kappa: v.Float("kappa")})
+				return filters.NewSRUKF(m, filters.SRUKFConfig{Alpha: v.Float("alpha"), Beta: v.Float("beta"), Kappa: v.Float("kappa"),
+					Jitter: v.Float("jitter"), JitterMax: v.Float("jitter_max")})
+			},
+		},
+		{
+			Name:    "ckf",
+			Summary: "cubature Kalman filter, third-degree spherical-radial rule (2n points)",
+			Source:  "Arasaratnam & Haykin 2009, IEEE TAC 54(6)",
+			Traits:  "any model with additive noise",
+			Params:  jitterParams(),
+			Applies: additiveOnly,
+			New: func(m *filters.Model, v Values) (filters.Filter, error) {
+				return filters.NewCKF(m, filters.CKFConfig{Jitter: v.Float("jitter"), JitterMax: v.Float("jitter_max")})
+			},
+		},
+		{
+			Name:    "ghkf",
+			Summary: "Gauss-Hermite Kalman filter, tensor-product rule of order p (p^n points: grows fast with the state dimension)",
+			Source:  "Ito & Xiong 2000, IEEE TAC 45(5); nodes by Golub & Welsch 1969, Math. Comp. 23",
+			Traits:  "any model with additive noise and order^n <= 100000",
+			Params: append([]Param{
+				{Name: "order", Kind: Int, Default: Value{Num: filters.DefaultGHKFOrder}, Doc: "Gauss-Hermite nodes per dimension (the set has order^n points, at most 100000)", Min: 2, Max: 64},
+			}, jitterParams()...),
+			Applies: additiveOnly,
+			New: func(m *filters.Model, v Values) (filters.Filter, error) {
+				return filters.NewGHKF(m, filters.GHKFConfig{Order: v.Int("order"), Jitter: v.Float("jitter"), JitterMax: v.Float("jitter_max")})
 			},
 		},
 		{
@@ -73,6 +141,23 @@ func builtinFilters() []FilterSpec {
 			},
 		},
 	}
+}
+
+// ukfParams are the parameters of ukf and ukf-aug.
+func ukfParams() []Param {
+	return append([]Param{
+		{Name: "points", Kind: String, Default: Value{Str: filters.PointsScaled}, Doc: "sigma-point set: scaled (2n+1 points; alpha, beta, kappa), symmetric (2n+1; kappa), simplex (n+2; w0)",
+			Choices: []string{filters.PointsScaled, filters.PointsSymmetric, filters.PointsSimplex}},
+		{Name: "alpha", Kind: Float, Default: Value{Num: 1}, Doc: "spread of the sigma points (scaled set)", Min: 1e-6, Max: 10},
+		{Name: "beta", Kind: Float, Default: Value{Num: 2}, Doc: "prior knowledge of the distribution, 2 for Gaussian (scaled set)", Min: -1e3, Max: 1e3},
+		{Name: "kappa", Kind: Float, Default: Value{Num: 0}, Doc: "secondary scaling (scaled and symmetric sets; symmetric: central weight kappa/(n+kappa))", Min: -1e3, Max: 1e3},
+		{Name: "w0", Kind: Float, Default: Value{Num: 0}, Doc: "weight of the central point (simplex set), in [0, 1)", Min: 0, Max: 0.999},
+	}, jitterParams()...)
+}
+
+func ukfConfig(v Values, augment bool) filters.UKFConfig {
+	return filters.UKFConfig{Points: v.Str("points"), Alpha: v.Float("alpha"), Beta: v.Float("beta"), Kappa: v.Float("kappa"),
+		W0: v.Float("w0"), Augment: augment, Jitter: v.Float("jitter"), JitterMax: v.Float("jitter_max")}
 }
 
 // jitterParams are the parameters of the optional jitter repair that the
