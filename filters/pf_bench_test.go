@@ -145,3 +145,95 @@ func BenchmarkPFGeneral(b *testing.B) {
 		})
 	}
 }
+
+// BenchmarkMonteCarlo times one Predict+Update step of every particle and
+// ensemble filter (pf with each resampling scheme, apf, rpf, enkf) on UNGM
+// (the scalar problem) and CV2D (Nx = 4, Nz = 2), resampling every step.
+func BenchmarkMonteCarlo(b *testing.B) {
+	ug := ungmModel()
+	cv := filtertest.CV2D(0.5, 4)
+	cx, cp := filtertest.CV2DPrior()
+	const steps = 200
+	_, uz := ungmSimulate(ug, 0, steps, rand.New(rand.NewPCG(1, 2)))
+	uzs := make([][]float64, steps)
+	for k := range uzs {
+		uzs[k] = uz[k+1 : k+2]
+	}
+	_, czs := filtertest.Simulate(cv, cx, steps, rand.New(rand.NewPCG(1, 2)))
+	problems := []struct {
+		name   string
+		m      *filters.Model
+		x0, p0 []float64
+		zs     [][]float64
+	}{
+		{"ungm", ug, []float64{0}, []float64{5}, uzs},
+		{"cv2d", cv, cx, cp, czs},
+	}
+	type maker struct {
+		name string
+		mk   func(m *filters.Model, n int) (filters.Filter, error)
+	}
+	var makers []maker
+	for _, s := range filters.ResamplingNames() {
+		sc, _ := filters.ParseResampling(s)
+		makers = append(makers, maker{"pf/resample=" + s, func(m *filters.Model, n int) (filters.Filter, error) {
+			return filters.NewPF(m, filters.PFConfig{Particles: n, Resample: sc})
+		}})
+	}
+	makers = append(makers,
+		maker{"pf/roughening=0.2", func(m *filters.Model, n int) (filters.Filter, error) {
+			return filters.NewPF(m, filters.PFConfig{Particles: n, Roughening: 0.2})
+		}},
+		maker{"apf", func(m *filters.Model, n int) (filters.Filter, error) {
+			return filters.NewAPF(m, filters.APFConfig{Particles: n})
+		}},
+		maker{"rpf", func(m *filters.Model, n int) (filters.Filter, error) {
+			return filters.NewRPF(m, filters.RPFConfig{Particles: n})
+		}},
+		maker{"enkf", func(m *filters.Model, n int) (filters.Filter, error) {
+			return filters.NewEnKF(m, filters.EnKFConfig{Members: n})
+		}},
+	)
+	for _, p := range problems {
+		for _, mk := range makers {
+			const n = 1000
+			b.Run(fmt.Sprintf("problem=%s/filter=%s/particles=%d", p.name, mk.name, n), func(b *testing.B) {
+				f, err := mk.mk(p.m, n)
+				if err != nil {
+					b.Fatal(err)
+				}
+				mcBenchSteps(b, f, p.x0, p.p0, p.zs, n)
+			})
+		}
+	}
+}
+
+// mcBenchSteps times Predict+Update over the measurements zs, restarting
+// from x0, p0 after the last, and reports ns per particle-step.
+func mcBenchSteps(b *testing.B, f filters.Filter, x0, p0 []float64, zs [][]float64, n int) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	if err := f.Reset(x0, p0, rng); err != nil {
+		b.Fatal(err)
+	}
+	k := 0
+	b.ReportAllocs()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		k++
+		if k > len(zs) {
+			b.StopTimer()
+			k = 1
+			if err := f.Reset(x0, p0, rng); err != nil {
+				b.Fatal(err)
+			}
+			b.StartTimer()
+		}
+		if err := f.Predict(k); err != nil {
+			b.Fatal(err)
+		}
+		if err := f.Update(zs[k-1], k); err != nil {
+			b.Fatal(err)
+		}
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(n), "ns/particle-step")
+}
