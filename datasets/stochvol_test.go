@@ -53,7 +53,7 @@ func TestStochVolStationaryMoments(t *testing.T) {
 // mean ψ(1/2) + ln 2 = -1.2704 and variance π²/2 = 4.9348 (Abramowitz &
 // Stegun 1964, 6.3.3 and 6.4.4), which are Model.H's offset and Model.R;
 // the sample moments agree within 5 standard errors (the fourth central
-// moment of log χ²₁ is ψ”'(1/2) + 3 (π²/2)² = π⁴ + 3π⁴/4, from the values of
+// moment of log χ²₁ is ψ⁽³⁾(1/2) + 3 (π²/2)² = π⁴ + 3π⁴/4, from the values of
 // the polygamma functions at 1/2 in A&S §6.4).
 func TestStochVolLogSquared(t *testing.T) {
 	p, err := NewStochVol(StochVolConfig{LogSquared: true})
