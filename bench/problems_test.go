@@ -37,7 +37,7 @@ var zeroConfig = map[string]func() (*datasets.Problem, error){
 func TestCatalogueDefaultsAreConstructorDefaults(t *testing.T) {
 	cat := Builtin()
 	if len(cat.Problems) != len(zeroConfig) {
-		t.Errorf("catalogue has %d problems, the test knows %d", len(cat.Problems), len(zeroConfig))
+		t.Errorf("catalogue has %d problems, the test knows %d: add new ones to zeroConfig", len(cat.Problems), len(zeroConfig))
 	}
 	for _, spec := range cat.Problems {
 		t.Run(spec.Name, func(t *testing.T) {
