@@ -24,6 +24,18 @@
 // degenerate weight set) is returned as one of the sentinel errors below,
 // which allocate nothing; the runner records it as a divergence.
 //
+// # Covariance numerics
+//
+// The Gaussian filters keep covariances exactly symmetric and update them
+// in forms that stay positive semi-definite under rounding: the Joseph
+// form (I−KC) P (I−KC)ᵀ + K R Kᵀ as written (kf, ekf, iekf), its
+// sigma-point counterpart Σ Wcᵢ (dxᵢ − K dzᵢ)(dxᵢ − K dzᵢ)ᵀ + K R Kᵀ (ukf,
+// ckf, ghkf), or a propagated Cholesky factor (srukf). A Cholesky
+// factorization that fails returns ErrNotPosDef, unless the config's
+// Jitter turns on the repair (a growing multiple of the mean variance
+// added to the diagonal); repairs since Reset are counted by the
+// one-method interface Repairer.
+//
 // # Time and indexing
 //
 // Step k runs from 1 to K. The prior describes the state at step 0. The

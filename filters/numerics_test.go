@@ -35,7 +35,11 @@ func symEigen(t *testing.T, a []float64, n int) []float64 {
 // 1/(1 + σ²_big/δ²) ≈ δ²/6 = 1.7e-13, below the error of P − K S Kᵀ,
 // which is first order in the gain's error (about 1e-11 here).
 func illConditioned() (m *filters.Model, x0, p0, z []float64, minEig float64) {
-	const d = 1e-6
+	return illConditionedDelta(1e-6)
+}
+
+// illConditionedDelta is illConditioned with another δ.
+func illConditionedDelta(d float64) (m *filters.Model, x0, p0, z []float64, minEig float64) {
 	h := []float64{1, 1, 1, 1, 1, 1 + d}
 	m = &filters.Model{
 		Nx: 3, Nz: 2,
@@ -344,5 +348,40 @@ func TestJitterRepairKF(t *testing.T) {
 		if math.Abs(s[i]-want[i]) > 1e-14 {
 			t.Errorf("repaired S[%d] = %.17g, want %.17g", i, s[i], want[i])
 		}
+	}
+}
+
+// With δ = 3e-7 in illConditioned the square-root UKF's measurement
+// downdate by U = K Sz fails (the gain's error, first order in the
+// downdate, makes S⁻S⁻ᵀ − U Uᵀ indefinite in float64): Update must report
+// ErrNotPosDef. With the jitter repair on, the downdated covariance is
+// formed explicitly and factored with a jitter, one repair is counted,
+// and the result is positive definite with its smallest eigenvalue near
+// the exact δ²/(δ² + σ²_big) ≈ 1.5e-14 in absolute terms: within the
+// jitter added, ε·tr/n ≤ 1e-9 (observed ε = 1e-9, eigenvalue 4.5e-10).
+func TestSRUKFDowndateFailure(t *testing.T) {
+	m, x0, p0, z, minEig := illConditionedDelta(3e-7)
+	f := newSRUKF(t, m, filters.SRUKFConfig{})
+	if err := f.Reset(x0, p0, nil); err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Update(z, 1); err != filters.ErrNotPosDef {
+		t.Fatalf("Update returned %v, want ErrNotPosDef from the failed downdate", err)
+	}
+	g := newSRUKF(t, m, filters.SRUKFConfig{Jitter: 1e-12})
+	if err := g.Reset(x0, p0, nil); err != nil {
+		t.Fatal(err)
+	}
+	if err := g.Update(z, 1); err != nil {
+		t.Fatalf("with the repair Update returned %v", err)
+	}
+	if g.Repairs() != 1 {
+		t.Errorf("Repairs() = %d, want 1", g.Repairs())
+	}
+	p := make([]float64, 9)
+	g.EstimateTo(make([]float64, 3), p)
+	ev := symEigen(t, p, 3)
+	if !(ev[0] > 0) || ev[0]-minEig > 1e-9 {
+		t.Errorf("repaired covariance: eigenvalues %v, exact smallest %.3g", ev, minEig)
 	}
 }

@@ -270,3 +270,19 @@ func TestUKFConfigErrors(t *testing.T) {
 		}
 	}
 }
+
+// The west-target angle test for the other sets and the augmented form.
+// The simplex points lie on a sphere of radius √(n/(1−W₀)) standard
+// deviations (n+1 points of weight (1−W₀)/(n+1) with Σ W |u|² = n; Julier
+// 2003): 2.2 for n = 5 and W₀ = 0, 3.2 for W₀ = 0.5, against the scaled
+// set's √5; the second-order shift of ẑ stays below the UKF's tolerance.
+func TestUKFPointSetsAngleInnovationWrapped(t *testing.T) {
+	for _, cfg := range []filters.UKFConfig{
+		{Points: filters.PointsSymmetric, Kappa: -2},
+		{Points: filters.PointsSimplex},
+		{Points: filters.PointsSimplex, W0: 0.5},
+		{Augment: true},
+	} {
+		checkWestInnovation(t, newUKF(t, ctRangeBearing(), cfg), 1e-4)
+	}
+}
