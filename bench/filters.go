@@ -57,7 +57,7 @@ func builtinFilters() []FilterSpec {
 		{
 			Name:    "ukf-aug",
 			Summary: "unscented Kalman filter with the state augmented by the process noise (predict) and the measurement noise (update); sigma points as ukf",
-			Source:  "Wan & van der Merwe 2000, Proc. IEEE AS-SPCC, §4; sigma points as ukf",
+			Source:  "Wan & van der Merwe 2000, Proc. IEEE AS-SPCC; sigma points as ukf",
 			Traits:  "any model; noise may enter non-additively (the model's FW/HV), additive noise is augmented too",
 			Params:  ukfParams(),
 			Applies: func(datasets.Traits) (bool, string) { return true, "" },

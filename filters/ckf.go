@@ -17,10 +17,10 @@ type CKFConfig struct {
 // Kalman filters", IEEE TAC 54(6): a Gaussian filter whose moment integrals
 // use the third-degree spherical-radial cubature rule, the 2n points
 // x ± √n Lⱼ (Lⱼ column j of the Cholesky factor of P), each of weight
-// 1/(2n) (their eq. 35-36), exact for polynomials of degree three. It has
+// 1/(2n), exact for polynomials of degree three. It has
 // no parameters (CKFConfig holds only the jitter repair).
 //
-// The steps are those of Arasaratnam & Haykin 2009, §V (time update with
+// The steps are those of Arasaratnam & Haykin 2009 (time update with
 // points of the posterior, measurement update with fresh points of the
 // prediction), with the covariances formed from deviations about the means
 // and the posterior covariance in the Joseph form of the sigma-point

@@ -20,7 +20,7 @@ func newCKF(t testing.TB, m *filters.Model, cfg filters.CKFConfig) *filters.CKF 
 }
 
 // The cubature rule matches the mean and covariance of the Gaussian
-// (Arasaratnam & Haykin 2009, "Cubature Kalman filters", eq. 35-36 are
+// (Arasaratnam & Haykin 2009, "Cubature Kalman filters": the rule is
 // exact for degree three), so on the linear-Gaussian model the CKF is the
 // Kalman filter.
 func TestCKFEqualsKF(t *testing.T) {
@@ -39,7 +39,7 @@ func TestCKFNoAllocs(t *testing.T) {
 // The cubature set ±√n eⱼ with weights 1/(2n) is the scaled unscented set
 // with α = 1, β = 0, κ = 0 (λ = 0: points ±√n Lⱼ, Wᵢ = 1/(2n), and a
 // central point of weight 0 in the mean and 1 − α² + β = 0 in the
-// covariance; Arasaratnam & Haykin 2009, §VI, note the relation), so on the
+// covariance), so on the
 // nonlinear coordinated-turn range-bearing model the CKF follows that UKF
 // to rounding: 1e-9 relative over 100 steps (common practice, no source;
 // 1e-12 observed), as does the symmetric set with κ = 0 (the same points).

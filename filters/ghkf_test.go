@@ -19,7 +19,7 @@ func newGHKF(t testing.TB, m *filters.Model, cfg filters.GHKFConfig) *filters.GH
 
 // The Gauss-Hermite tensor rule of order p is exact for polynomials of
 // degree 2p−1 per coordinate (Ito & Xiong 2000, "Gaussian filters for
-// nonlinear filtering problems", §IV), so for p = 3 and 5 the GHKF equals
+// nonlinear filtering problems"), so for p = 3 and 5 the GHKF equals
 // the Kalman filter on the linear-Gaussian model.
 func TestGHKFEqualsKF(t *testing.T) {
 	for _, p := range []int{3, 5} {

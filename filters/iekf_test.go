@@ -60,7 +60,7 @@ func TestIEKFOneIterationIsEKF(t *testing.T) {
 }
 
 // The converged IEKF update is a stationary point of the MAP cost
-// J(x) = ½|z − H(x)|²_R⁻¹ + ½|x − x̄|²_P̄⁻¹ (Bell & Cathey 1993, §III: the
+// J(x) = ½|z − H(x)|²_R⁻¹ + ½|x − x̄|²_P̄⁻¹ (Bell & Cathey 1993: the
 // Gauss-Newton fixed point), i.e. P̄⁻¹(x − x̄) = Cᵀ R⁻¹ (z − H(x)) with
 // C = H'(x); it costs less than the EKF's update, which is one step. The
 // scenario (ours): a launch 50 m from the radar with 10 m position spread,

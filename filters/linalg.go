@@ -229,7 +229,7 @@ func semiChol(l, a []float64, n int) bool {
 // done on rows so that the row-major compound matrix needs no transpose.
 // Each reflection is H = I − τ v vᵀ with v = x − α e₁, α = −sign(x₁)‖x‖,
 // τ = 2/(vᵀv) (Golub & Van Loan 2013, "Matrix Computations", 4th ed.,
-// §5.1.2). The norm is scaled by the largest entry against overflow.
+// §5.1, from memory). The norm is scaled by the largest entry against overflow.
 // l must not alias a.
 func lqLower(l, a []float64, n, m int) {
 	for i := 0; i < n; i++ {
@@ -287,7 +287,7 @@ func lqLower(l, a []float64, n, m int) {
 
 // cholUpdate replaces the lower Cholesky factor l (n x n, diagonal >= 0) of
 // A by that of A + x xᵀ, by a Givens rotation of each column of l with x
-// (Golub & Van Loan 2013, §6.5.4). x is overwritten.
+// (Golub & Van Loan 2013, §6.5, from memory). x is overwritten.
 func cholUpdate(l, x []float64, n int) {
 	for k := 0; k < n; k++ {
 		xk := x[k]
@@ -307,7 +307,7 @@ func cholUpdate(l, x []float64, n int) {
 }
 
 // cholDowndate replaces the lower Cholesky factor l (n x n) of A by that of
-// A − x xᵀ, by hyperbolic rotations (Golub & Van Loan 2013, §6.5.4). It
+// A − x xᵀ, by hyperbolic rotations (Golub & Van Loan 2013, §6.5). It
 // reports false, leaving l partly changed, if A − x xᵀ is not positive
 // definite (a pivot L_kk² − x_k² is not positive). x is overwritten.
 func cholDowndate(l, x []float64, n int) bool {

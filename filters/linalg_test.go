@@ -50,7 +50,7 @@ func maxRelDiff(got, want []float64) float64 {
 }
 
 // The Householder triangularisation gives [L 0] Q with L L ᵀ = A Aᵀ
-// (Golub & Van Loan 2013, "Matrix Computations", §5.2); a lower
+// (Golub & Van Loan 2013, "Matrix Computations", ch. 5); a lower
 // triangular factor with positive diagonal is unique, so for a full-rank A
 // L is the Cholesky factor of A Aᵀ, here from gonum's mat.Cholesky.
 func TestLQLowerIsCholeskyOfAAt(t *testing.T) {

@@ -111,7 +111,7 @@ func plainUpdate(t *testing.T, m *filters.Model, p []float64) []float64 {
 // The plain update loses positive definiteness on illConditioned (its
 // smallest eigenvalue comes out negative), while the Joseph form
 // (I−KH) P (I−KH)ᵀ + K R Kᵀ of the KF (Bar-Shalom, Li & Kirubarajan 2001,
-// "Estimation with Applications to Tracking and Navigation", §5.2.3: a sum
+// "Estimation with Applications to Tracking and Navigation", §5.2: a sum
 // of positive semi-definite terms, with an error second order in the
 // gain's) and its sigma-point counterpart in the UKF and CKF keep it, with
 // the smallest eigenvalue within 2% of the exact δ²/(δ² + σ²_big) (our
@@ -205,7 +205,7 @@ func shifted(a []float64, n int, c float64) []float64 {
 // (ErrNotPosDef); with Jitter 1e-12 the repair adds ε·τ·I, τ = tr(P)/n,
 // for ε = 1e-12, 1e-11, ... until the factorization succeeds. Adding c·I
 // shifts every eigenvalue by c (Weyl; Horn & Johnson 1985, "Matrix
-// Analysis", §4.3), so ε = 1e-10 (1.25e-10 < 1e-9) fails and ε = 1e-9
+// Analysis", §4.3, from memory), so ε = 1e-10 (1.25e-10 < 1e-9) fails and ε = 1e-9
 // (1.25e-9) succeeds: the repaired filter must equal the filter started
 // from P + 1e-9·τ·I, and count one repair. A JitterMax below 1e-9 is not
 // enough: the step fails and counts nothing.

@@ -89,7 +89,7 @@ func scaledSet(n int, alpha, beta, kappa float64) (sigmaSet, error) {
 
 // cubatureSet is the third-degree spherical-radial cubature rule of
 // Arasaratnam & Haykin 2009, "Cubature Kalman filters", IEEE TAC 54(6),
-// eq. (35)-(36): the 2n points ±√n eⱼ, each of weight 1/(2n).
+// the 2n points ±√n eⱼ, each of weight 1/(2n).
 func cubatureSet(n int) sigmaSet {
 	np := 2 * n
 	s := sigmaSet{n: n, np: np, pairs: true, c: math.Sqrt(float64(n)),
@@ -134,7 +134,7 @@ func simplexSet(n int, w0 float64) (sigmaSet, error) {
 
 // hermiteSet is the tensor-product Gauss-Hermite rule of order p for the
 // standard normal in n dimensions (Ito & Xiong 2000, "Gaussian filters for
-// nonlinear filtering problems", IEEE TAC 45(5), §IV): the p^n points
+// nonlinear filtering problems", IEEE TAC 45(5)): the p^n points
 // (ξ_{i₁}, ..., ξ_{iₙ}) with weight Π wᵢₖ, from the 1-D nodes and weights
 // of hermiteRule. It refuses more than maxSigmaPoints points.
 func hermiteSet(n, p int) (sigmaSet, error) {

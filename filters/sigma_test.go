@@ -117,10 +117,10 @@ func TestHermiteRuleNumpy(t *testing.T) {
 // The p-point Gauss rule integrates polynomials up to degree 2p−1 exactly
 // (Golub & Welsch 1969, "Calculation of Gauss quadrature rules", Math.
 // Comp. 23): the even moments of the standard normal, E ξ^{2k} = (2k−1)!!,
-// are matched for 2k ≤ 2p−2 and missed at 2k = 2p (where the rule gives
-// (2p−1)!! − p!, from the remainder term of A&S 25.4.46 in the
-// probabilists' form, derived here: the error of ∫ He_p² φ is the
-// quadrature's 0 against p!).
+// are matched for 2k ≤ 2p−2 and missed at 2k = 2p, where the rule gives
+// (2p−1)!! − p! (derived here: ξ^{2p} is He_p² plus a polynomial of degree
+// below 2p, which the rule integrates exactly, while it gives 0 for He_p²,
+// whose integral is p!).
 func TestHermiteRuleExactness(t *testing.T) {
 	dfact := func(k int) float64 { // (2k−1)!!
 		v := 1.0
@@ -157,8 +157,8 @@ func TestHermiteRuleExactness(t *testing.T) {
 // spherical simplex construction (Julier 2003, "The spherical simplex
 // unscented transformation", which also puts its n+1 points on a sphere
 // about the centre), of the cubature rule (Arasaratnam & Haykin 2009,
-// "Cubature Kalman filters", eq. 35-36) and of the Gauss-Hermite tensor
-// rule (Ito & Xiong 2000, §IV).
+// "Cubature Kalman filters") and of the Gauss-Hermite tensor
+// rule (Ito & Xiong 2000).
 func TestSigmaSetMoments(t *testing.T) {
 	type set struct {
 		kind    string
@@ -242,7 +242,7 @@ func TestSigmaSetMoments(t *testing.T) {
 }
 
 // Degrees of the rules beyond the covariance: the cubature rule is exact
-// for polynomials of degree three only (Arasaratnam & Haykin 2009, §IV: its
+// for polynomials of degree three only (Arasaratnam & Haykin 2009: its
 // fourth moment E ξ₁⁴ is n, against 3 for the normal), while the
 // Gauss-Hermite tensor rule of order 3 matches E ξ₁⁴ = 3 and
 // E ξ₁² ξ₂² = 1 (degree 5 per coordinate; Ito & Xiong 2000).

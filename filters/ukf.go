@@ -129,7 +129,7 @@ func (c UKFConfig) maker() (setMaker, error) {
 // transition), Predict augments the state with the process noise,
 // [x; w] ~ N([x; 0], diag(P, Q)), passes the points of the augmented set
 // through FW and adds no Q; likewise with HV Update augments with v and
-// adds no R (Wan & van der Merwe 2000, §4, with the state augmented in each
+// adds no R (Wan & van der Merwe 2000, with the state augmented in each
 // step by the noise that enters it, since Update redraws its points). The
 // augmented sets have the dimension nx+Nw or nx+Nv, which enters λ and the
 // weights. Augment forces this form for additive noise too. Q and R of an

@@ -187,7 +187,7 @@ func TestUKFPointSetsEqualKF(t *testing.T) {
 }
 
 // The augmented UKF (state augmented with the process noise in Predict and
-// the measurement noise in Update; Wan & van der Merwe 2000, §4) is exact
+// the measurement noise in Update; Wan & van der Merwe 2000) is exact
 // on a linear-Gaussian model as well: the augmented set matches the joint
 // Gaussian of state and noise, and the model is linear in both. CV2D's Q
 // is singular (rank one per axis), so this also checks the zero columns of
