@@ -134,7 +134,8 @@ func (c UKFConfig) maker() (setMaker, error) {
 // augmented sets have the dimension nx+Nw or nx+Nv, which enters λ and the
 // weights. Augment forces this form for additive noise too. Q and R of an
 // augmented step may be singular (a zero-variance component gets a zero
-// column in the square root).
+// column in the square root); Reset returns ErrNotPosDef if one is not
+// positive semi-definite.
 //
 // Angles: for Model.AngleMeas components the predicted measurement is the
 // weighted circular mean of the sigma-point measurements and their
