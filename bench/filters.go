@@ -128,16 +128,73 @@ func builtinFilters() []FilterSpec {
 		},
 		{
 			Name:    "pf",
-			Summary: "bootstrap particle filter, log-weights, systematic resampling on an ESS threshold",
-			Source:  "Gordon, Salmond & Smith 1993, IEE Proc. F 140(2); systematic resampling: Kitagawa 1996",
-			Traits:  "any model it can simulate",
+			Summary: "bootstrap particle filter, log-weights, resampling on an ESS threshold (systematic, stratified, multinomial or residual), optional roughening",
+			Source:  "Gordon, Salmond & Smith 1993, IEE Proc. F 140(2); systematic resampling: Kitagawa 1996; schemes: Douc, Cappé & Moulines 2005, ISPA",
+			Traits:  particleTraits,
 			Params: []Param{
-				{Name: "particles", Kind: Int, Default: Value{Num: 1000}, Doc: "number of particles N", Min: 1, Max: 1e8},
-				{Name: "resample_ess", Kind: Float, Default: Value{Num: 1}, Doc: "resample when ESS < resample_ess × N (1 = every step)", Min: 1e-9, Max: 1},
+				particlesParam(),
+				resampleESSParam(),
+				resampleParam(),
+				{Name: "roughening", Kind: Float, Default: Value{Num: 0}, Min: 0, Max: 10,
+					Doc: "roughening constant K: after resampling, jitter of sd K·E·N^(-1/d), E the range of each component (0 = off)"},
 			},
+			Applies: particleApplies,
+			New: func(m *filters.Model, v Values) (filters.Filter, error) {
+				s, err := filters.ParseResampling(v.Str("resample"))
+				if err != nil {
+					return nil, err
+				}
+				return filters.NewPF(m, filters.PFConfig{Particles: v.Int("particles"), ResampleThreshold: v.Float("resample_ess"),
+					Resample: s, Roughening: v.Float("roughening")})
+			},
+		},
+		{
+			Name:    "apf",
+			Summary: "auxiliary particle filter, first-stage weights from the likelihood at the predicted mean point F(x_i), resampling every step",
+			Source:  "Pitt & Shephard 1999, JASA 94(446)",
+			Traits:  particleTraits,
+			Params:  []Param{particlesParam(), resampleParam()},
+			Applies: particleApplies,
+			New: func(m *filters.Model, v Values) (filters.Filter, error) {
+				s, err := filters.ParseResampling(v.Str("resample"))
+				if err != nil {
+					return nil, err
+				}
+				return filters.NewAPF(m, filters.APFConfig{Particles: v.Int("particles"), Resample: s})
+			},
+		},
+		{
+			Name:    "rpf",
+			Summary: "post-regularised particle filter, Gaussian kernel with the optimal bandwidth after each resampling",
+			Source:  "Musso, Oudjane & Le Gland 2001, in Doucet, de Freitas & Gordon (eds.), Sequential Monte Carlo Methods in Practice, ch. 12",
+			Traits:  particleTraits,
+			Params: []Param{particlesParam(), {Name: "resample_ess", Kind: Float, Default: Value{Num: filters.DefaultRPFResampleThreshold}, Min: 1e-9, Max: 1,
+				Doc: "resample and regularise when ESS < resample_ess × N (at every step the kernel over-spreads models with little process noise)"}, resampleParam()},
+			Applies: particleApplies,
+			New: func(m *filters.Model, v Values) (filters.Filter, error) {
+				s, err := filters.ParseResampling(v.Str("resample"))
+				if err != nil {
+					return nil, err
+				}
+				return filters.NewRPF(m, filters.RPFConfig{Particles: v.Int("particles"), ResampleThreshold: v.Float("resample_ess"), Resample: s})
+			},
+		},
+		{
+			Name:    "enkf",
+			Summary: "ensemble Kalman filter with perturbed observations, optional multiplicative inflation",
+			Source:  "Evensen 2003, Ocean Dynamics 53; Burgers, van Leeuwen & Evensen 1998, Mon. Weather Rev. 126(6); inflation: Anderson & Anderson 1999, Mon. Weather Rev. 127(12)",
+			Traits:  "needs additive measurement noise (non-additive process noise is sampled); R is taken as the noise covariance",
+			Params: []Param{
+				{Name: "members", Kind: Int, Default: Value{Num: filters.DefaultEnKFMembers}, Doc: "ensemble size N", Min: 2, Max: 1e7},
+				{Name: "inflation", Kind: Float, Default: Value{Num: 1}, Min: 1, Max: 10,
+					Doc: "factor on the forecast deviations from the ensemble mean (1 = off)"},
+			},
+			// Traits do not say which noise is not additive: for a
+			// non-additive problem NewEnKF refuses a model with HV (the
+			// runner notes "cannot be set up: ...") and runs one with FW.
 			Applies: func(datasets.Traits) (bool, string) { return true, "" },
 			New: func(m *filters.Model, v Values) (filters.Filter, error) {
-				return filters.NewPF(m, filters.PFConfig{Particles: v.Int("particles"), ResampleThreshold: v.Float("resample_ess")})
+				return filters.NewEnKF(m, filters.EnKFConfig{Members: v.Int("members"), Inflation: v.Float("inflation")})
 			},
 		},
 	}
@@ -184,4 +241,27 @@ func phrase(own, def string) string {
 		return own
 	}
 	return def
+}
+
+// particleTraits is what pf, apf and rpf need, for the listing.
+const particleTraits = "any model it can simulate; non-additive measurement noise needs the model's exact likelihood (MeasLogLik)"
+
+// particleApplies accepts every problem: pf, apf and rpf run on additive
+// and non-additive noise. A model whose measurement noise is not additive
+// (HV) and that has no MeasLogLik is refused by the filter's constructor
+// instead (Traits do not say which noise is not additive, nor whether the
+// likelihood is known), which the runner notes as "cannot be set up".
+func particleApplies(datasets.Traits) (bool, string) { return true, "" }
+
+func particlesParam() Param {
+	return Param{Name: "particles", Kind: Int, Default: Value{Num: filters.DefaultPFParticles}, Doc: "number of particles N", Min: 1, Max: 1e8}
+}
+
+func resampleESSParam() Param {
+	return Param{Name: "resample_ess", Kind: Float, Default: Value{Num: filters.DefaultPFResampleThreshold}, Doc: "resample when ESS < resample_ess × N (1 = every step)", Min: 1e-9, Max: 1}
+}
+
+func resampleParam() Param {
+	return Param{Name: "resample", Kind: String, Default: Value{Str: filters.ResampleSystematic.String()}, Choices: filters.ResamplingNames(),
+		Doc: "resampling scheme"}
 }

@@ -8,11 +8,21 @@ type RPFConfig struct {
 	Particles int
 	// ResampleThreshold: resample (and regularise) after an update whose
 	// effective sample size is below ResampleThreshold·N, in (0, 1]. If
-	// zero, 1.0 is used (every update whose weights are not all equal).
+	// zero, DefaultRPFResampleThreshold (0.5) is used.
 	ResampleThreshold float64
 	// Resample is the resampling scheme; the zero value is systematic.
 	Resample Resampling
 }
+
+// DefaultRPFResampleThreshold is the ResampleThreshold used when
+// RPFConfig's is zero. It is lower than the pf's because every resampling
+// spreads the cloud by the kernel: regularised at every step, a model with
+// little process noise forgets its past measurements within a few steps
+// (on the pendulum problem with 500 particles we measured an RMSE of 0.53,
+// no better than inverting each measurement, against 0.107 at 0.5).
+// Musso, Oudjane & Le Gland 2001 resample only when the ESS falls below a
+// threshold; N/2 is common practice, with no single source.
+const DefaultRPFResampleThreshold = 0.5
 
 // RPF is the post-regularised particle filter of Musso, Oudjane & Le Gland
 // 2001 ("Improving regularised particle filters", in Doucet, de Freitas &
@@ -50,7 +60,11 @@ var (
 // NewRPF returns a regularised particle filter for m. Its errors are those
 // of NewPF.
 func NewRPF(m *Model, cfg RPFConfig) (*RPF, error) {
-	p, err := newPF(m, PFConfig{Particles: cfg.Particles, ResampleThreshold: cfg.ResampleThreshold, Resample: cfg.Resample}, "rpf")
+	th := cfg.ResampleThreshold
+	if th == 0 {
+		th = DefaultRPFResampleThreshold
+	}
+	p, err := newPF(m, PFConfig{Particles: cfg.Particles, ResampleThreshold: th, Resample: cfg.Resample}, "rpf")
 	if err != nil {
 		return nil, err
 	}
