@@ -17,7 +17,7 @@ type APFConfig struct {
 // APF is the auxiliary particle filter of Pitt & Shephard 1999
 // ("Filtering via simulation: auxiliary particle filters", JASA 94(446)),
 // in the form with a point prediction μ_i = F(x_i) of each particle (their
-// §3.2 (section from memory)). At an update with measurement z it
+// from memory). At an update with measurement z it
 //
 //  1. gives each particle the first-stage weight λ_i ∝ w_i·p(z | μ_i), the
 //     likelihood of z at its predicted mean point;

@@ -19,7 +19,7 @@ func newAPF(t testing.TB, m *filters.Model, cfg filters.APFConfig) *filters.APF 
 	return f
 }
 
-// The auxiliary filter is consistent (Pitt & Shephard 1999, §3; its
+// The auxiliary filter is consistent (Pitt & Shephard 1999; its
 // estimates obey a central limit theorem at rate 1/N in the squared error,
 // Johansen & Doucet 2008, "A note on auxiliary particle filters",
 // Statistics & Probability Letters 78(12), as a sequential importance

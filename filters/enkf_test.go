@@ -85,7 +85,7 @@ func TestEnKFInflation(t *testing.T) {
 // own forecast: with a forecast ensemble of mean x̄ and covariance Pf the
 // mean of the analysed members is x̄ + K (z − H x̄) + K v̄ (v̄ the mean of
 // the perturbations), with K = Pf Hᵀ (H Pf Hᵀ + R)⁻¹ (Evensen 2003,
-// eqs. for the analysis with perturbed observations; Burgers, van Leeuwen
+// the analysis with perturbed observations; Burgers, van Leeuwen
 // & Evensen 1998, "Analysis scheme in the ensemble Kalman filter", Monthly
 // Weather Review 126(6)), so it is within 5·sqrt((K R Kᵀ)_jj / N) of the
 // first terms; and the innovation covariance it reports is H Pf Hᵀ + R.

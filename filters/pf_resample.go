@@ -210,7 +210,7 @@ func gather(dst, src []float64, par []int32, d int) {
 // roughen adds to each component c of the n = len(x)/d particles x an
 // independent N(0, σ_c²) draw with σ_c = k·E_c·n^(−1/d), E_c the range
 // max − min of component c over the particles: the roughening of Gordon,
-// Salmond & Smith 1993 (IEE Proc. F 140(2), §3.3 (section from memory)).
+// Salmond & Smith 1993 (IEE Proc. F 140(2); from memory).
 // sig (d) is workspace. Angle components are wrapped afterwards.
 func roughen(x []float64, d int, k float64, angles []int, sig []float64, rng *rand.Rand) {
 	n := len(x) / d

@@ -27,7 +27,7 @@ var schemes = []filters.Resampling{
 //   - systematic: floor(N w_i) or ceil(N w_i), variance f_i (1 − f_i).
 //
 // The first two are given by Douc, Cappé & Moulines 2005, "Comparison of
-// resampling schemes for particle filtering", ISPA, §II (from memory); the
+// resampling schemes for particle filtering", ISPA (from memory); the
 // other two follow from the constructions.
 func offspringVar(s filters.Resampling, w []float64) []float64 {
 	n := float64(len(w))
@@ -67,8 +67,8 @@ func offspringVar(s filters.Resampling, w []float64) []float64 {
 // per particle, the mean offspring count, its sample variance and the
 // standard error of that variance, sqrt((m4 − s⁴)/M) with m4 the sample
 // fourth central moment (the large-sample variance of a sample variance;
-// Kendall & Stuart, "The Advanced Theory of Statistics", vol. 1, §10.5
-// (section from memory)), but at least sqrt(V/M) for the scheme's variance V
+// Kendall & Stuart, "The Advanced Theory of Statistics", vol. 1, from
+// memory), but at least sqrt(V/M) for the scheme's variance V
 // (the value for a count that is rarely not at its floor, whose sample
 // fourth moment over M draws may be zero).
 func countStats(t *testing.T, s filters.Resampling, w []float64, draws int, rng *rand.Rand) (mean, vr, seVar []float64) {
@@ -123,11 +123,11 @@ func countStats(t *testing.T, s filters.Resampling, w []float64, draws int, rng 
 }
 
 // Every scheme is unbiased: the mean number of offspring of particle i is
-// N w_i (Douc, Cappé & Moulines 2005, §II). Over M = 20000 resamplings the
+// N w_i (Douc, Cappé & Moulines 2005). Over M = 20000 resamplings the
 // mean count must be within 4.5 standard errors sqrt(V_i/M) of N w_i, with
 // V_i the scheme's own variance (offspringVar), and the sample variance
 // within 5 standard errors of V_i (a count with V_i = 0 must never vary).
-// The variance ordering of Douc et al. 2005 (their §III, proved there;
+// The variance ordering of Douc et al. 2005 (proved there;
 // from memory): V_multinomial ≥ V_residual and V_multinomial ≥
 // V_stratified for every particle, which we check on the closed forms and
 // on the measured variances, the latter up to 5 standard errors of their

@@ -852,7 +852,7 @@ func checkApproachesKF(t *testing.T, newF func(m *filters.Model, n int) filters.
 	}
 }
 
-// Roughening (Gordon, Salmond & Smith 1993, §3.3 (section from memory))
+// Roughening (Gordon, Salmond & Smith 1993, from memory)
 // adds to every component c of every resampled particle an independent
 // N(0, σ_c²) draw, σ_c = K·E_c·N^(−1/d), E_c the range of component c over
 // the resampled particles. A pf with K = 0 on the same stream holds the

@@ -36,8 +36,8 @@ const DefaultRPFResampleThreshold = 0.5
 //
 //	h_opt = A·N^(−1/(n+4)),  A = (4/(n+2))^(1/(n+4)),  n = Nx
 //
-// (ch. 12 §12.2 (section from memory); the same formula as Silverman 1986,
-// "Density Estimation for Statistics and Data Analysis", eq. 4.14). This
+// (from memory; the same formula as Silverman 1986, "Density Estimation
+// for Statistics and Data Analysis", for a Gaussian kernel). This
 // turns the discrete resampled cloud back into a continuous one and
 // counters sample impoverishment when the process noise is small. The
 // kernel spreads the cloud by about h_opt² times its covariance at each

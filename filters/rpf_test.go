@@ -21,8 +21,8 @@ func newRPF(t testing.TB, m *filters.Model, cfg filters.RPFConfig) *filters.RPF 
 // The optimal bandwidth for a Gaussian kernel and density: for n = 1 it
 // is Silverman's rule of thumb h = (4/3)^(1/5)·N^(-1/5) ≈ 1.06·N^(-1/5)
 // (Silverman 1986, "Density Estimation for Statistics and Data Analysis",
-// eq. 3.28), and for n = 2 it is h = N^(-1/6), as A = (4/(n+2))^(1/(n+4))
-// is 1 there (Silverman 1986, eq. 4.14; Musso, Oudjane & Le Gland 2001,
+// from memory), and for n = 2 it is h = N^(-1/6), as A = (4/(n+2))^(1/(n+4))
+// is 1 there (Silverman 1986; Musso, Oudjane & Le Gland 2001,
 // ch. 12; both from memory).
 func TestRPFBandwidth(t *testing.T) {
 	if got, want := filters.RPFBandwidth(1000, 1), 1.06*math.Pow(1000, -0.2); math.Abs(got/want-1) > 0.005 {
