@@ -18,11 +18,11 @@ type PFConfig struct {
 	// Resample is the resampling scheme; the zero value is systematic.
 	Resample Resampling
 	// Roughening, if positive, is the constant K of roughening (Gordon,
-	// Salmond & Smith 1993, from memory): after each
-	// resampling every component c of every particle gets an independent
-	// N(0, σ_c²) jitter with σ_c = K·E_c·N^(−1/Nx), E_c the range of
-	// component c over the resampled particles. Zero (the default) turns
-	// it off; it must be finite and not negative.
+	// Salmond & Smith 1993, from memory): after each resampling every
+	// component c of every particle gets an independent N(0, σ_c²)
+	// jitter with σ_c = K·E_c·N^(−1/Nx), E_c the range of component c
+	// over the resampled particles (angle components are then wrapped).
+	// Zero (the default) turns it off; it must be finite and not negative.
 	Roughening float64
 }
 
