@@ -5,6 +5,7 @@ go 1.26.8
 require (
 	github.com/BurntSushi/toml v1.6.0
 	github.com/apache/arrow-go/v18 v18.8.0
+	github.com/expr-lang/expr v1.17.8
 	github.com/olekukonko/tablewriter v1.1.5
 	github.com/schollz/progressbar/v3 v3.19.1
 	golang.org/x/term v0.48.0

@@ -42,6 +42,8 @@ type ProblemConfig struct {
 	Spec   *ProblemSpec
 	Values Values // every parameter of Spec: defaults, then the file's values
 	Line   int    // line of the [[problem]] header
+
+	expr *exprModel // the model of a model = "expr" table; nil for a catalogue problem
 }
 
 // FilterConfig is one filter with a full set of parameter values.
@@ -257,6 +259,9 @@ func tableElem(v any, i int) map[string]any {
 }
 
 func (p *suiteParser) problem(i int, elem map[string]any, keys []string) error {
+	if _, ok := elem["model"]; ok {
+		return p.exprProblem(i, elem, keys)
+	}
 	name, line, err := p.use("problem", i, elem)
 	if err != nil {
 		return err
@@ -298,7 +303,11 @@ func (p *suiteParser) filter(i int, elem map[string]any, keys []string) error {
 func (p *suiteParser) use(table string, i int, elem map[string]any) (string, int, error) {
 	v, ok := elem["use"]
 	if !ok {
-		return "", 0, p.errorf(p.lines.tableLine(table, i), table, `missing "use" (the name of a %s in the catalogue)`, table)
+		or := ""
+		if table == "problem" {
+			or = `, or model = "expr" for a model defined in the file`
+		}
+		return "", 0, p.errorf(p.lines.tableLine(table, i), table, `missing "use" (the name of a %s in the catalogue%s)`, table, or)
 	}
 	line := p.lines.keyLine(table, i, "use")
 	s, ok := v.(string)
@@ -551,6 +560,10 @@ func (s *Suite) Canonical() []byte {
 	b.WriteString("runs = " + strconv.Itoa(s.Runs) + "\n")
 	for _, c := range s.Problems {
 		b.WriteString("\n[[problem]]\n")
+		if c.expr != nil {
+			writeExprConfig(&b, c.expr, c.Values)
+			continue
+		}
 		writeConfig(&b, c.Spec.Name, c.Spec.Params, c.Values)
 	}
 	for _, c := range s.Filters {
@@ -755,15 +768,19 @@ func (o *suiteOrder) elemKeys(e suiteEvent, elem map[string]any) []string {
 // Limits: it reads only files the decoder accepted, so it need not detect
 // errors. A dotted key (a.b = 1) is recorded under its first part. Keys
 // inside inline tables and [t.sub] tables have no line of their own; lookups
-// fall back to the line of the enclosing table header or key.
+// fall back to the line of the enclosing table header or key. For a list
+// value of a table key it also records the line where each string or
+// bracketed element starts (expressions, matrix rows); numbers are not
+// recorded, so elemLine falls back to the key's line for lists of numbers.
 type suiteLines struct {
 	top    map[string]int         // first line of each top-level key or table header
 	tables map[string][]tableLine // each [[name]] table, in order
 }
 
 type tableLine struct {
-	line int            // line of the [[name]] header
-	keys map[string]int // line of each key of the table
+	line  int              // line of the [[name]] header
+	keys  map[string]int   // line of each key of the table
+	elems map[string][]int // line of each string or bracketed element of a list value; nil if none
 }
 
 // tableLine returns the header line of element i of the list of tables name.
@@ -784,6 +801,18 @@ func (l *suiteLines) keyLine(name string, i int, key string) int {
 	return l.tableLine(name, i)
 }
 
+// elemLine returns the line of element j of the list value of key in
+// element i of the list of tables name, when the scanner found the lines of
+// exactly n elements; otherwise the key's line.
+func (l *suiteLines) elemLine(name string, i int, key string, j, n int) int {
+	if occ := l.tables[name]; i < len(occ) {
+		if e := occ[i].elems[key]; len(e) == n && j < n {
+			return e[j]
+		}
+	}
+	return l.keyLine(name, i, key)
+}
+
 func scanSuiteLines(data []byte) suiteLines {
 	l := suiteLines{top: make(map[string]int), tables: make(map[string][]tableLine)}
 	var st valueScan
@@ -792,7 +821,9 @@ func scanSuiteLines(data []byte) suiteLines {
 		line := n + 1
 		text = strings.TrimSuffix(text, "\r")
 		if st.open() {
+			st.line = line
 			st.scan(text)
+			l.endValue(&st)
 			continue
 		}
 		t := strings.TrimLeft(text, " \t")
@@ -840,10 +871,32 @@ func scanSuiteLines(data []byte) suiteLines {
 			}
 		}
 		if rest, ok := strings.CutPrefix(strings.TrimLeft(rest, " \t"), "="); ok {
+			st.start(line)
+			if index >= 0 {
+				st.owner = &l.tables[table][index]
+				st.key = segs[0]
+			}
 			st.scan(rest)
+			l.endValue(&st)
 		}
 	}
 	return l
+}
+
+// endValue stores the element lines of a list value once it has closed.
+func (l *suiteLines) endValue(st *valueScan) {
+	if st.open() || st.owner == nil {
+		return
+	}
+	if len(st.elems) > 0 && st.outer == '[' {
+		if st.owner.elems == nil {
+			st.owner.elems = make(map[string][]int)
+		}
+		if _, dup := st.owner.elems[st.key]; !dup {
+			st.owner.elems[st.key] = st.elems
+		}
+	}
+	st.owner, st.elems = nil, nil
 }
 
 // scanKey reads a TOML key (bare, "basic", 'literal', dotted) at the start
@@ -905,6 +958,25 @@ func scanKey(s string) ([]string, string) {
 type valueScan struct {
 	depth int    // open [ and {
 	ml    string // `"""` or `'''` inside a multi-line string, else ""
+
+	// Element lines of a table key's list value.
+	line  int        // line being scanned
+	outer byte       // the value's first bracket, '[' for a list
+	elems []int      // line of each string or bracketed element at depth 1
+	owner *tableLine // table whose key the value belongs to; nil when not recorded
+	key   string
+}
+
+// start begins a new value on line.
+func (st *valueScan) start(line int) {
+	st.line, st.outer, st.elems, st.owner, st.key = line, 0, nil, nil, ""
+}
+
+// element records that an element of the outer list starts here.
+func (st *valueScan) element() {
+	if st.depth == 1 && st.outer == '[' {
+		st.elems = append(st.elems, st.line)
+	}
 }
 
 func (st *valueScan) open() bool { return st.depth > 0 || st.ml != "" }
@@ -933,10 +1005,15 @@ func (st *valueScan) scan(s string) {
 		case '#':
 			return
 		case '[', '{':
+			if st.depth == 0 && st.outer == 0 {
+				st.outer = c
+			}
+			st.element()
 			st.depth++
 		case ']', '}':
 			st.depth = max(st.depth-1, 0)
 		case '"', '\'':
+			st.element()
 			if strings.HasPrefix(s[i:], strings.Repeat(string(c), 3)) {
 				st.ml = s[i : i+3]
 				i += 3

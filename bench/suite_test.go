@@ -378,7 +378,8 @@ func TestScanSuiteLines(t *testing.T) {
 	}
 	wantTables := map[string][]tableLine{
 		"problem": {
-			{line: 7, keys: map[string]int{"use": 8, "steps": 9, "dot": 14, "sub": 15}},
+			// The strings "]", '[' and ''' ]\n ]''' are elements of steps.
+			{line: 7, keys: map[string]int{"use": 8, "steps": 9, "dot": 14, "sub": 15}, elems: map[string][]int{"steps": {10, 10, 11}}},
 			{line: 19, keys: map[string]int{"use": 20, "inl": 21, "after": 23}},
 		},
 		"filter": {{line: 17, keys: map[string]int{"use": 18}}},

@@ -24,13 +24,14 @@ const usage = `estbench: benchmark state estimators over Monte Carlo runs
 Usage:
   estbench run [flags]     run a suite (the built-in default suite without --suite)
   estbench list            list every problem and filter with parameters, defaults, traits and source
+  estbench data import|show  convert recorded sensor data to .arrow files; show one
   estbench version         print the version
   estbench help [command]  show help
 
 Run 'estbench <command> -h' for the flags of a command.
 `
 
-var commands = []string{"run", "list", "version", "help"}
+var commands = []string{"run", "list", "version", "help", "data"}
 
 // dispatch runs the command named by args[0] and returns the exit code.
 func dispatch(args []string, stdout, stderr io.Writer) int {
@@ -43,6 +44,8 @@ func dispatch(args []string, stdout, stderr io.Writer) int {
 		return cmdRun(args[1:], stdout, stderr)
 	case "list":
 		return cmdList(args[1:], stdout, stderr)
+	case "data":
+		return cmdData(args[1:], stdout, stderr)
 	case "version":
 		fmt.Fprintln(stdout, "estbench", toolVersion())
 		return exitOK
