@@ -119,4 +119,3 @@ func FileName(r *Recording) string {
 	}
 	return s + ".arrow"
 }
-
