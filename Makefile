@@ -23,3 +23,7 @@ bench:
 # Each fuzz target briefly.
 fuzz:
 	$(GO) test -run '^$$' -fuzz FuzzParseSuite -fuzztime 20s ./bench/
+	$(GO) test -run '^$$' -fuzz '^FuzzNMEA$$' -fuzztime 10s -fuzzminimizetime 200x ./datasets/navlog/
+	$(GO) test -run '^$$' -fuzz '^FuzzAIS$$' -fuzztime 10s -fuzzminimizetime 200x ./datasets/navlog/
+	$(GO) test -run '^$$' -fuzz '^FuzzGPX$$' -fuzztime 10s -fuzzminimizetime 200x ./datasets/navlog/
+	$(GO) test -run '^$$' -fuzz '^FuzzAISCSV$$' -fuzztime 10s -fuzzminimizetime 200x ./datasets/navlog/

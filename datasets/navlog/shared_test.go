@@ -25,23 +25,25 @@ func sharedFile(t testing.TB, dir, name string) []byte {
 	return b
 }
 
-// fuzzSeeds returns the sample files for seeding a fuzz target, nil if
-// the samples are absent; large files are cut into 4 KiB pieces at line
-// boundaries so that each seed stays small.
+// fuzzSeeds returns seeds for a fuzz target cut from sample files, nil
+// if the samples are absent: up to 8 pieces of about 1 KiB per file, cut
+// at line ends and spread over the file. Small seeds keep each execution
+// and the fuzzer's minimisation of new inputs quick.
 func fuzzSeeds(dir string, names ...string) [][]byte {
+	const piece, perFile = 1024, 8
 	var out [][]byte
 	for _, n := range names {
 		b, err := os.ReadFile(filepath.Join(sharedDir, dir, n))
 		if err != nil {
 			continue
 		}
-		for len(b) > 0 {
-			k := min(len(b), 4096)
-			if i := bytes.LastIndexByte(b[:k], '\n'); i > 0 && k < len(b) {
-				k = i + 1
+		step := max(len(b)/perFile, piece)
+		for off := 0; off < len(b); off += step {
+			s := b[off:min(len(b), off+piece)]
+			if i := bytes.LastIndexByte(s, '\n'); i > 0 && off+piece < len(b) {
+				s = s[:i+1]
 			}
-			out = append(out, b[:k])
-			b = b[k:]
+			out = append(out, s)
 		}
 	}
 	return out
