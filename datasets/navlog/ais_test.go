@@ -261,7 +261,8 @@ func TestAISSharedLog(t *testing.T) {
 		if math.IsNaN(p.Lat) || math.IsNaN(p.Lon) {
 			// One moored vessel reports no position, SOG or course, with
 			// time stamp 63: positioning system inoperative (ITU-R
-			// M.1371-5 Table 47 codes 60-63, from memory).
+			// M.1371-5, time stamp field of message 1: 60 not available,
+			// 61 manual, 62 dead reckoning, 63 inoperative; from memory).
 			if p.MMSI != 244060797 || p.Second != 63 || !math.IsNaN(p.SOG) {
 				t.Errorf("report without position: %+v", p)
 			}
