@@ -38,6 +38,10 @@ type Pair struct {
 	Summary       metrics.Summary
 	Curves        []metrics.CurvePoint
 	AllocsPerStep float64 // measured on run 0, steps only, after set-up
+	// EvalsPerStep is the number of model evaluations per step on run 0,
+	// counted by the harness (see countingModel): a cost that does not
+	// depend on the machine. NaN when the probe run could not step.
+	EvalsPerStep float64
 }
 
 // Outcome is the result of a whole suite.
@@ -161,9 +165,11 @@ func runProblem(s *Suite, pl *problemPlan, workers int, opt Options, done *int, 
 	}
 	steps, nx, nz := ws[0].prob.Steps, ws[0].prob.Model.Nx, ws[0].prob.Model.Nz
 
-	// Allocation probe: run 0 of each configuration, alone, steps only.
+	// Allocation and evaluation probe: run 0 of each configuration, alone,
+	// steps only, before the timed runs, which are therefore not slowed
+	// by the counting.
 	for c := range pl.filters {
-		pl.pairs[c].AllocsPerStep = ws[0].allocsPerStep(c)
+		pl.pairs[c].AllocsPerStep, pl.pairs[c].EvalsPerStep = ws[0].probe(c)
 	}
 
 	accs := make([]*metrics.Accumulator, nf)
@@ -312,24 +318,72 @@ func (w *worker) run(r int, jr *jobResult) {
 	}
 }
 
-// allocsPerStep measures the heap allocations per step of configuration c
-// on run 0, after set-up. Call it while no other run is in progress.
-func (w *worker) allocsPerStep(c int) float64 {
+// probe runs configuration c alone on run 0, after set-up, and returns its
+// heap allocations and model evaluations per step. It builds its own copy
+// of the filter over a counting copy of the model (countingModel); the
+// counters allocate nothing, so the allocations are those of the filter.
+// Call it while no other run is in progress.
+func (w *worker) probe(c int) (allocs, evals float64) {
+	var n evalCount
+	cm := countingModel(w.prob.Model, &n)
+	fc := w.plan.filters[c]
+	f, err := fc.Spec.New(&cm, fc.Values)
+	if err != nil {
+		return math.NaN(), math.NaN()
+	}
 	stream(&w.dataPCG, w.suite.Seed, w.plan.key, 0, "data")
 	w.prob.Run(&w.seq, w.dataRand)
 	stream(&w.fltPCG, w.suite.Seed, w.plan.key, 0, w.plan.purpose[c])
-	f := w.flts[c]
 	if err := f.Reset(w.prob.X0, w.prob.P0, w.fltRand); err != nil {
-		return math.NaN()
+		return math.NaN(), math.NaN()
 	}
+	n.evals = 0 // set-up and Reset are not steps
 	var before, after runtime.MemStats
 	runtime.ReadMemStats(&before)
 	k := w.filterSteps(f)
 	runtime.ReadMemStats(&after)
 	if k == 0 {
-		return math.NaN()
+		return math.NaN(), math.NaN()
 	}
-	return float64(after.Mallocs-before.Mallocs) / float64(k)
+	return float64(after.Mallocs-before.Mallocs) / float64(k), float64(n.evals) / float64(k)
+}
+
+// evalCount is the counter behind countingModel.
+type evalCount struct{ evals int64 }
+
+// countingModel returns a copy of m whose functions count their
+// evaluations into n before calling m's: one per state passed through F,
+// FW, H or HV, len(x)/Nx for each FMany or HMany call (one per state of
+// the batch), one per MeasLogLik and one per Jacobian (FJac, HJac). A
+// filter that has no Jacobian and differences F instead is charged its F
+// calls. Nil functions stay nil, so the filters' fallbacks are unchanged.
+// The matrices are shared with m, which filters only read.
+func countingModel(m filters.Model, n *evalCount) filters.Model {
+	nx := int64(m.Nx)
+	one := func(g func(dst, x []float64, k int)) func(dst, x []float64, k int) {
+		if g == nil {
+			return nil
+		}
+		return func(dst, x []float64, k int) { n.evals++; g(dst, x, k) }
+	}
+	many := func(g func(dst, x []float64, k int)) func(dst, x []float64, k int) {
+		if g == nil {
+			return nil
+		}
+		return func(dst, x []float64, k int) { n.evals += int64(len(x)) / nx; g(dst, x, k) }
+	}
+	m.F, m.H, m.FJac, m.HJac = one(m.F), one(m.H), one(m.FJac), one(m.HJac)
+	m.FMany, m.HMany = many(m.FMany), many(m.HMany)
+	if fw := m.FW; fw != nil {
+		m.FW = func(dst, x, w []float64, k int) { n.evals++; fw(dst, x, w, k) }
+	}
+	if hv := m.HV; hv != nil {
+		m.HV = func(dst, x, v []float64, k int) { n.evals++; hv(dst, x, v, k) }
+	}
+	if ll := m.MeasLogLik; ll != nil {
+		m.MeasLogLik = func(z, x []float64, k int) float64 { n.evals++; return ll(z, x, k) }
+	}
+	return m
 }
 
 // runFilter runs configuration c on the current sequence and scores it.

@@ -222,8 +222,8 @@ func faultyCatalogue(mode string) *Catalogue {
 		Applies: func(t datasets.Traits) (bool, string) { return t.Linear, "needs a linear model" },
 		New: func(m *filters.Model, v Values) (filters.Filter, error) {
 			kf, err := filters.NewKF(m, filters.KFConfig{})
-			// run counts this instance's Resets from 0. With one worker the
-			// first Reset is the allocation probe, then runs 0, 1, 2, ...
+			// run counts this instance's Resets from 0. The probe builds an
+			// instance of its own, so with one worker Reset r is run r.
 			run := -1
 			return &faulty{Filter: kf, mode: mode, run: &run, bad: map[int]bool{3: true}}, err
 		},
@@ -271,12 +271,11 @@ use = "kf"
 			if got == nil {
 				t.Fatal("no diverged run recorded")
 			}
-			// The probe run counts as Reset 0 for the single worker's filter,
-			// so Reset number 3 is run 2.
+			// Reset number 3 of the single worker's filter is run 3.
 			wantReason := map[string]string{"panic": "panic: runtime error: index out of range", "nan": "estimate not finite"}[mode]
 			wantStep := map[string]int{"panic": 7, "nan": 1}[mode]
-			if got.Run != 2 || got.DivStep != wantStep || !strings.HasPrefix(got.Reason, wantReason) {
-				t.Fatalf("diverged run %d step %d reason %q; want run 2 step %d reason %q...", got.Run, got.DivStep, got.Reason, wantStep, wantReason)
+			if got.Run != 3 || got.DivStep != wantStep || !strings.HasPrefix(got.Reason, wantReason) {
+				t.Fatalf("diverged run %d step %d reason %q; want run 3 step %d reason %q...", got.Run, got.DivStep, got.Reason, wantStep, wantReason)
 			}
 			if mode == "panic" && !strings.Contains(got.Reason, "faulty") {
 				t.Errorf("reason does not name where the panic happened: %q", got.Reason)

@@ -20,15 +20,16 @@ func ExampleWriteSummary() {
 				ANEES: 4.31, ANEESLo: 3.83, ANEESHi: 4.18, NEESInBounds: 0.71,
 				ANIS: 2.02, ANISLo: 1.92, ANISHi: 2.08, NsPerStep: 2210, MeanESS: nan,
 			},
+			EvalsPerStep: 18, // 9 sigma points of a 4-state model, through F and through H
 		},
 		{Problem: "launch", Filter: "kf", Note: "kf needs a linear model; launch is nonlinear"},
 	}
 	results.WriteSummary(os.Stdout, "markdown", rows, results.Provenance{})
 	// Output:
-	// | problem | filter | config | runs | diverged | RMSE [95% CI] | ANEES [95% bounds] | NEES in (%) | ANIS [95% bounds] | µs/step | allocs/step | notes |
-	// | :--- | :--- | :--- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | :--- |
-	// | launch | ukf | default | 50 | 0 | 12.4 [11.8, 13.1] | 4.31 [3.83, 4.18] high | 71.0 | 2.02 [1.92, 2.08] in | 2.21 | 0 |  |
-	// | launch | kf | default | - | - | - | - | - | - | - | - | [1] |
+	// | problem | filter | config | runs | diverged | RMSE [95% CI] | ANEES [95% bounds] | NEES in (%) | ANIS [95% bounds] | µs/step | allocs/step | evals/step | notes |
+	// | :--- | :--- | :--- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | :--- |
+	// | launch | ukf | default | 50 | 0 | 12.4 [11.8, 13.1] | 4.31 [3.83, 4.18] high | 71.0 | 2.02 [1.92, 2.08] in | 2.21 | 0 | 18 |  |
+	// | launch | kf | default | - | - | - | - | - | - | - | - | - | [1] |
 	//
 	// Notes:
 	//

@@ -15,7 +15,7 @@ var SummaryColumns = []string{
 	"rmse", "rmse_ci_lo", "rmse_ci_hi",
 	"anees", "anees_bound_lo", "anees_bound_hi", "nees_in_bounds",
 	"anis", "anis_bound_lo", "anis_bound_hi",
-	"ns_per_step", "allocs_per_step", "mean_ess", "repairs", "note",
+	"ns_per_step", "allocs_per_step", "evals_per_step", "mean_ess", "repairs", "note",
 }
 
 // RunColumns are the columns of runs.parquet, in order.
@@ -45,6 +45,7 @@ type SummaryRow struct {
 	metrics.Summary
 
 	AllocsPerStep float64 // heap allocations per filter step; NaN if not measured
+	EvalsPerStep  float64 // model evaluations per filter step (bench.Pair.EvalsPerStep); NaN if not measured
 }
 
 // RunRow is one Monte Carlo run of a pair (a row of runs.parquet).
@@ -110,12 +111,12 @@ func summaryValues(r *SummaryRow) [summaryFloats]float64 {
 		s.RMSE, s.RMSELo, s.RMSEHi,
 		s.ANEES, s.ANEESLo, s.ANEESHi, s.NEESInBounds,
 		s.ANIS, s.ANISLo, s.ANISHi,
-		s.NsPerStep, r.AllocsPerStep, s.MeanESS, float64(s.Repairs),
+		s.NsPerStep, r.AllocsPerStep, r.EvalsPerStep, s.MeanESS, float64(s.Repairs),
 	}
 }
 
 // summaryFloats is the number of float64 columns of the summary.
-const summaryFloats = 14
+const summaryFloats = 15
 
 // summaryCounts returns the runs and diverged columns; 0 when the row does
 // not apply.
@@ -132,9 +133,9 @@ func setSummaryValues(r *SummaryRow, v *[summaryFloats]float64) {
 	s.RMSE, s.RMSELo, s.RMSEHi = v[0], v[1], v[2]
 	s.ANEES, s.ANEESLo, s.ANEESHi, s.NEESInBounds = v[3], v[4], v[5], v[6]
 	s.ANIS, s.ANISLo, s.ANISHi = v[7], v[8], v[9]
-	s.NsPerStep, r.AllocsPerStep = v[10], v[11]
-	s.MeanESS = v[12]
-	if !math.IsNaN(v[13]) {
-		s.Repairs = int(v[13])
+	s.NsPerStep, r.AllocsPerStep, r.EvalsPerStep = v[10], v[11], v[12]
+	s.MeanESS = v[13]
+	if !math.IsNaN(v[14]) {
+		s.Repairs = int(v[14])
 	}
 }

@@ -96,6 +96,7 @@ const (
 	hANIS
 	hTime
 	hAllocs
+	hEvals
 	hESS
 	hNotes
 	hColumns
@@ -105,7 +106,7 @@ const (
 const missing = "-"
 
 func buildHuman(rows []SummaryRow, prov Provenance) *human {
-	var rmse, anees, anis, ns, inb, allocs, ess []float64
+	var rmse, anees, anis, ns, inb, allocs, evals, ess []float64
 	for i := range rows {
 		r := &rows[i]
 		if !r.Applicable {
@@ -120,6 +121,9 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 		ns = append(ns, r.NsPerStep)
 		inb = append(inb, 100*r.NEESInBounds)
 		allocs = append(allocs, r.AllocsPerStep)
+		if !math.IsNaN(r.EvalsPerStep) {
+			evals = append(evals, r.EvalsPerStep)
+		}
 		if !math.IsNaN(r.MeanESS) {
 			ess = append(ess, r.MeanESS)
 		}
@@ -134,6 +138,10 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 	if !allIntegers(allocs) {
 		scAllocs.decimals = decimalsFor(minNonzero(allocs))
 	}
+	scEvals := scale{div: 1, decimals: 0}
+	if !allIntegers(evals) {
+		scEvals.decimals = decimalsFor(minNonzero(evals))
+	}
 
 	h := &human{
 		head: []string{
@@ -144,10 +152,11 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 			withFactor("ANIS", scANIS) + " [95% bounds]",
 			scTime.label + "/step",
 			"allocs/step",
+			"evals/step",
 			"mean ESS",
 			"notes",
 		},
-		right: []bool{false, false, false, true, true, true, true, true, true, true, true, true, false},
+		right: []bool{false, false, false, true, true, true, true, true, true, true, true, true, true, false},
 		prov:  provenanceLine(prov),
 	}
 	index := map[string]int{} // note text -> footnote number
@@ -171,6 +180,7 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 			h.legend = true
 			c[hTime] = scTime.format(r.NsPerStep)
 			c[hAllocs] = scAllocs.format(r.AllocsPerStep)
+			c[hEvals] = scEvals.format(r.EvalsPerStep)
 			c[hESS] = scESS.format(r.MeanESS)
 		}
 		var refs []string
@@ -190,6 +200,9 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 	}
 	if len(ess) == 0 {
 		h.drop(hESS) // no particle or ensemble filter in the table
+	}
+	if len(evals) == 0 {
+		h.drop(hEvals) // no row has a count of model evaluations
 	}
 	return h
 }

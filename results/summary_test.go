@@ -38,6 +38,7 @@ func fixtureRows() []SummaryRow {
 				NsPerStep: 412.7, MeanESS: nan,
 			},
 			AllocsPerStep: 0,
+			EvalsPerStep:  4,
 		},
 		{
 			Problem: "ungm", Filter: "kf",
@@ -53,6 +54,7 @@ func fixtureRows() []SummaryRow {
 				NsPerStep: 1890.25, MeanESS: nan,
 			},
 			AllocsPerStep: 0,
+			EvalsPerStep:  4,
 		},
 		{
 			Problem: "ungm", Filter: "pf", Config: "particles=1000", Applicable: true,
@@ -64,6 +66,7 @@ func fixtureRows() []SummaryRow {
 				Warnings: []string{"3 of 100 runs diverged (first: run 17, step 42: weights degenerate)"},
 			},
 			AllocsPerStep: 0,
+			EvalsPerStep:  2000,
 		},
 		{
 			Problem: "ctrb", Filter: "ukf", Config: "alpha=0.001 kappa=0", Applicable: true,
@@ -75,6 +78,7 @@ func fixtureRows() []SummaryRow {
 				Warnings: []string{"bounds from 8 runs are loose; use --runs 20 or more"},
 			},
 			AllocsPerStep: 0.5,
+			EvalsPerStep:  22,
 		},
 		{
 			Problem: "ctrb", Filter: "ekf", Applicable: true,
@@ -86,6 +90,7 @@ func fixtureRows() []SummaryRow {
 				Warnings: []string{"bounds from 8 runs are loose; use --runs 20 or more"},
 			},
 			AllocsPerStep: 0,
+			EvalsPerStep:  4,
 		},
 	}
 }
@@ -244,6 +249,7 @@ func exactRows() []SummaryRow {
 			Warnings: []string{"first; with semicolon", "second"},
 		},
 		AllocsPerStep: 1e-300,
+		EvalsPerStep:  2.0 / 3,
 	}
 	return []SummaryRow{r, fixtureRows()[1]}
 }

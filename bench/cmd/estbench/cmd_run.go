@@ -22,6 +22,13 @@ problems, prints the summary table and writes the result files:
 summary.parquet, runs.parquet, curves.parquet, summary.md, manifest.json.
 Without --suite the built-in default suite runs.
 
+--sweep-particles LO:HI replaces the particle counts of every particle
+filter of the suite (every filter with a particles parameter: pf in the
+default suite, whose kf, ekf and ukf stay as the cheap end of the front)
+by LO, HI and the 1-2-5 values between them (100:100000 gives 100, 200,
+500, 1000, ..., 100000), or by --sweep-steps N counts in geometric
+progression; 'estbench budget' then picks from the result.
+
 Flags:
 `
 
@@ -34,6 +41,8 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	workers := fs.Int("workers", 0, "runs computed in parallel (0: one per CPU); never changes results")
 	outDir := fs.String("out", "", "result `DIR` (default estbench-out/<UTC timestamp>)")
 	format := fs.String("format", "table", "summary format on stdout: "+strings.Join(results.Formats, ", "))
+	sweep := fs.String("sweep-particles", "", "replace the particle counts of every particle filter by `LO:HI` in 1-2-5 steps per decade")
+	sweepSteps := fs.Int("sweep-steps", 0, "with --sweep-particles: `N` counts in geometric progression instead of 1-2-5 steps")
 	fs.Usage = func() {
 		fmt.Fprint(stderr, runUsage)
 		fs.PrintDefaults()
@@ -79,6 +88,20 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 			return exitUsage
 		}
 		s.Seed = v
+	}
+	if *sweepSteps != 0 && *sweep == "" {
+		fmt.Fprintln(stderr, "estbench run: --sweep-steps needs --sweep-particles")
+		return exitUsage
+	}
+	if *sweep != "" {
+		counts, err := parseSweep(*sweep, *sweepSteps)
+		if err == nil {
+			_, err = sweepParticles(s, counts)
+		}
+		if err != nil {
+			fmt.Fprintf(stderr, "estbench run: --sweep-particles: %v\n", err)
+			return exitUsage
+		}
 	}
 
 	start := time.Now().UTC()
@@ -166,7 +189,7 @@ func summaryRows(out *bench.Outcome) []results.SummaryRow {
 	rows := make([]results.SummaryRow, len(out.Pairs))
 	for i, p := range out.Pairs {
 		rows[i] = results.SummaryRow{Problem: p.Problem, Filter: p.Filter, Config: p.Config,
-			Applicable: p.Applicable, Note: p.Note, Summary: p.Summary, AllocsPerStep: p.AllocsPerStep}
+			Applicable: p.Applicable, Note: p.Note, Summary: p.Summary, AllocsPerStep: p.AllocsPerStep, EvalsPerStep: p.EvalsPerStep}
 	}
 	return rows
 }

@@ -23,6 +23,8 @@ const usage = `estbench: benchmark state estimators over Monte Carlo runs
 
 Usage:
   estbench run [flags]     run a suite (the built-in default suite without --suite)
+  estbench compare B N     compare result folder N with base folder B row by row; exit 1 when a row is worse
+  estbench budget DIR      choose the most accurate configuration within a cost per step
   estbench list            list every problem and filter with parameters, defaults, traits and source
   estbench data import|show  convert recorded sensor data to .arrow files; show one
   estbench version         print the version
@@ -31,7 +33,7 @@ Usage:
 Run 'estbench <command> -h' for the flags of a command.
 `
 
-var commands = []string{"run", "list", "version", "help", "data"}
+var commands = []string{"run", "compare", "budget", "list", "version", "help", "data"}
 
 // dispatch runs the command named by args[0] and returns the exit code.
 func dispatch(args []string, stdout, stderr io.Writer) int {
@@ -42,6 +44,10 @@ func dispatch(args []string, stdout, stderr io.Writer) int {
 	switch args[0] {
 	case "run":
 		return cmdRun(args[1:], stdout, stderr)
+	case "compare":
+		return cmdCompare(args[1:], stdout, stderr)
+	case "budget":
+		return cmdBudget(args[1:], stdout, stderr)
 	case "list":
 		return cmdList(args[1:], stdout, stderr)
 	case "data":
