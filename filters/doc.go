@@ -43,7 +43,7 @@
 //
 // # Randomness
 //
-// Filters that sample (pf) draw only from the *rand.Rand passed to Reset;
+// Filters that sample (pf, apf, rpf, enkf) draw only from the *rand.Rand passed to Reset;
 // there is no global random state. The same stream gives the same result.
 //
 // This package imports only gonum and the standard library.
