@@ -9,6 +9,23 @@ import (
 // \usepackage{booktabs}), the notes and legend in a footnote-size block
 // under it, and the provenance as the caption.
 func writeLaTeX(w io.Writer, h *human) error {
+	var f texFrame
+	if h.prov != "" {
+		f.caption = "estbench results: " + h.prov + "."
+	}
+	return writeLaTeXFramed(w, h, f)
+}
+
+// texFrame is what surrounds a LaTeX tabular besides the table rows: the
+// caption and label, and lines set in the footnote-size block after the
+// notes and the legend. Texts are plain and escaped when written.
+type texFrame struct {
+	caption string   // "" for none
+	label   string   // \label key; "" for none
+	footer  []string // lines after the notes and legend
+}
+
+func writeLaTeXFramed(w io.Writer, h *human, f texFrame) error {
 	var b strings.Builder
 	b.WriteString("\\begin{table}[htbp]\n\\centering\n\\small\n\\begin{tabular}{")
 	for _, r := range h.right {
@@ -25,7 +42,7 @@ func writeLaTeX(w io.Writer, h *human) error {
 		texRow(&b, c)
 	}
 	b.WriteString("\\bottomrule\n\\end{tabular}\n")
-	if len(h.notes) > 0 || h.legend {
+	if len(h.notes) > 0 || h.legend || len(f.footer) > 0 {
 		b.WriteString("\n\\smallskip\n{\\footnotesize\n")
 		for i, n := range h.notes {
 			b.WriteString(texEscape(noteRef(i)+" "+n) + "\\par\n")
@@ -33,10 +50,16 @@ func writeLaTeX(w io.Writer, h *human) error {
 		if h.legend {
 			b.WriteString(texEscape(legend) + "\\par\n")
 		}
+		for _, l := range f.footer {
+			b.WriteString(texEscape(l) + "\\par\n")
+		}
 		b.WriteString("}\n")
 	}
-	if h.prov != "" {
-		b.WriteString("\\caption{estbench results: " + texEscape(h.prov) + ".}\n")
+	if f.caption != "" {
+		b.WriteString("\\caption{" + texEscape(f.caption) + "}\n")
+	}
+	if f.label != "" {
+		b.WriteString("\\label{" + f.label + "}\n")
 	}
 	b.WriteString("\\end{table}\n")
 	_, err := io.WriteString(w, b.String())

@@ -27,13 +27,14 @@ Usage:
   estbench budget DIR      choose the most accurate configuration within a cost per step
   estbench list            list every problem and filter with parameters, defaults, traits and source
   estbench data import|show  convert recorded sensor data to .arrow files; show one
+  estbench report DIR      write an HTML report with plots (or a LaTeX/Markdown table) of a result folder
   estbench version         print the version
   estbench help [command]  show help
 
 Run 'estbench <command> -h' for the flags of a command.
 `
 
-var commands = []string{"run", "compare", "budget", "list", "version", "help", "data"}
+var commands = []string{"run", "compare", "budget", "list", "report", "version", "help", "data"}
 
 // dispatch runs the command named by args[0] and returns the exit code.
 func dispatch(args []string, stdout, stderr io.Writer) int {
@@ -52,6 +53,8 @@ func dispatch(args []string, stdout, stderr io.Writer) int {
 		return cmdList(args[1:], stdout, stderr)
 	case "data":
 		return cmdData(args[1:], stdout, stderr)
+	case "report":
+		return cmdReport(args[1:], stdout, stderr)
 	case "version":
 		fmt.Fprintln(stdout, "estbench", toolVersion())
 		return exitOK
