@@ -476,6 +476,23 @@ func (l *exprLowering) num(n ast.Node) (numNode, *exprError) {
 	return numNode{}, lowerErr(n, "%s is not available in model expressions", describeNode(n))
 }
 
+// isNumNode reports whether n is a construct that gives a number.
+func isNumNode(n ast.Node) bool {
+	switch n := n.(type) {
+	case *ast.IntegerNode, *ast.FloatNode, *ast.IdentifierNode, *ast.CallNode:
+		return true
+	case *ast.UnaryNode:
+		return n.Operator == "-" || n.Operator == "+"
+	case *ast.BinaryNode:
+		return isArith(n.Operator)
+	case *ast.ConditionalNode:
+		return isNumNode(n.Exp1)
+	case *ast.VariableDeclaratorNode:
+		return isNumNode(n.Expr)
+	}
+	return false
+}
+
 func (l *exprLowering) ident(n *ast.IdentifierNode) (numNode, *exprError) {
 	for i := len(l.scope) - 1; i >= 0; i-- {
 		if lv := l.scope[i]; lv.name == n.Value {
@@ -871,7 +888,7 @@ func (l *exprLowering) cond(n ast.Node) (condNode, *exprError) {
 			dep: max(c.dep, a.dep, b.dep), kdep: c.kdep || a.kdep || b.kdep, costly: c.costly || a.costly || b.costly,
 		}, nil
 	}
-	if !isCondNode(n) {
+	if isNumNode(n) {
 		return condNode{}, lowerErr(n, "%s is a number where true or false is needed", quoteExprNode(n))
 	}
 	return condNode{}, lowerErr(n, "%s is not available in model expressions", describeNode(n))
@@ -1017,6 +1034,9 @@ func lowerFunction(progs []*vm.Program, states []string, params map[string]float
 	e := &exprFunction{vars: l.vars, fns: make([]exprNum, len(progs)), dt: dt}
 	lin := true
 	for i, p := range progs {
+		if isCondNode(p.Node()) {
+			return nil, false, i, &exprError{from: -1, msg: "gives true or false, not a number"}
+		}
 		n, err := l.num(p.Node())
 		if err != nil {
 			return nil, false, i, err

@@ -356,8 +356,8 @@ func (t *exprTable) matrix(key string, v any, n int, what string) ([]float64, *S
 	out := make([]float64, n*n)
 	if _, rows := list[0].([]any); !rows {
 		if len(list) != n {
-			return nil, t.errorf(t.keyLine(key), "%s: %d variances for %s; give %d variances [...] or a %d×%d matrix [[...], ...]",
-				key, len(list), count(n, what), n, n, n)
+			return nil, t.errorf(t.keyLine(key), "%s: %s for %s; give %d variances [...] or a %d×%d matrix [[...], ...]",
+				key, count(len(list), "variance"), count(n, what), n, n, n)
 		}
 		d, _ := numberList(key, v)
 		for j, x := range d {
@@ -366,13 +366,13 @@ func (t *exprTable) matrix(key string, v any, n int, what string) ([]float64, *S
 		return out, nil
 	}
 	if len(list) != n {
-		return nil, t.errorf(t.keyLine(key), "%s: %d rows for %s; give a %d×%d matrix [[...], ...] or %d variances [...]",
-			key, len(list), count(n, what), n, n, n)
+		return nil, t.errorf(t.keyLine(key), "%s: %s for %s; give a %d×%d matrix [[...], ...] or %d variances [...]",
+			key, count(len(list), "row"), count(n, what), n, n, n)
 	}
 	for j, e := range list {
 		row, _ := numberList(key, e)
 		if len(row) != n {
-			return nil, t.errorf(t.p.lines.elemLine("problem", t.i, key, j, n), "%s: row %d has %d entries, want %d", key, j+1, len(row), n)
+			return nil, t.errorf(t.p.lines.elemLine("problem", t.i, key, j, n), "%s: row %d has %s, want %d", key, j+1, count(len(row), "entry", "entries"), n)
 		}
 		copy(out[j*n:], row)
 	}
@@ -421,10 +421,13 @@ func fmtEig(v float64) string {
 	return strconv.FormatFloat(v, 'g', 4, 64)
 }
 
-// count writes "1 state", "2 states".
-func count(n int, what string) string {
+// count writes "1 state", "2 states"; plural, if given, replaces what+"s".
+func count(n int, what string, plural ...string) string {
 	if n == 1 {
 		return "1 " + what
+	}
+	if len(plural) > 0 {
+		return strconv.Itoa(n) + " " + plural[0]
 	}
 	return strconv.Itoa(n) + " " + what + "s"
 }
@@ -479,7 +482,7 @@ func (t *exprTable) relate() error {
 	if t.x0 != nil {
 		x0, _ := numberList("prior_mean", t.x0)
 		if len(x0) != nx {
-			return t.errorf(t.keyLine("prior_mean"), "prior_mean: %d values for %s", len(x0), count(nx, "state"))
+			return t.errorf(t.keyLine("prior_mean"), "prior_mean: %s for %s", count(len(x0), "value"), count(nx, "state"))
 		}
 		m.x0 = x0
 	}

@@ -8,9 +8,12 @@ import (
 )
 
 // FuzzParseSuite feeds the parser arbitrary bytes, seeded with the good and
-// bad suite files. It must never panic; every error is a *SuiteError with a
-// line ≥ 0, the same on a second parse (no dependence on map order); every
-// suite it accepts is complete and its canonical form parses to itself.
+// bad suite files (expression models among them) and the expression suites
+// of exprmodel_test.go. It must never panic; every error is a *SuiteError
+// with a line ≥ 0, the same on a second parse (no dependence on map order);
+// every suite it accepts is complete and its canonical form parses to
+// itself; every expression model it accepts builds, and its functions run
+// at the prior mean without panicking.
 func FuzzParseSuite(f *testing.F) {
 	for _, dir := range []string{"good", "bad"} {
 		files, err := filepath.Glob(filepath.Join("testdata", "suites", dir, "*.toml"))
@@ -25,6 +28,8 @@ func FuzzParseSuite(f *testing.F) {
 			f.Add(data)
 		}
 	}
+	f.Add([]byte(exprUNGMSuite))
+	f.Add([]byte(exprCV2DSuite))
 	cat := suiteTestCatalogue()
 	f.Fuzz(func(t *testing.T, data []byte) {
 		s, err := ParseSuite("fuzz.toml", data, cat)
@@ -52,6 +57,16 @@ func FuzzParseSuite(f *testing.F) {
 			if len(c.Values) != len(c.Spec.Params) {
 				t.Fatalf("problem %s has values %v", c.Spec.Name, c.Values)
 			}
+			if c.expr == nil {
+				continue
+			}
+			p, err := c.Spec.Build(c.Values)
+			if err != nil {
+				t.Fatalf("expression model %s does not build: %v", c.Spec.Name, err)
+			}
+			x, z := make([]float64, p.Model.Nx), make([]float64, p.Model.Nz)
+			p.Model.F(x, p.X0, 1)
+			p.Model.H(z, x, 1)
 		}
 		for _, c := range s.Filters {
 			if len(c.Values) != len(c.Spec.Params) || c.Config != ConfigString(c.Spec.Params, c.Values) {

@@ -160,6 +160,21 @@ func TestParseSuiteGood(t *testing.T) {
 			},
 		},
 		{
+			// Expression models (README, "Models defined in the suite
+			// file"): their values are steps, dt and the named parameters,
+			// defaulting to the table's values. TOML v1.0.0, "Table": the
+			// [problem.params] sub-table belongs to the last [[problem]].
+			file: "harbour-launch-expr.toml", name: "harbour-launch-expr", seed: 11, runs: 20,
+			problems: []wantConfig{
+				{"harbour-launch-ungm", Values{"steps": num(100), "dt": num(1), "a": num(0.5), "b": num(25), "c": num(8)}, "", 8},
+				{"launch-channel", Values{"steps": num(60), "dt": num(0.5), "heading": num(0.6), "x0": num(400), "y0": num(-250)}, "", 25},
+			},
+			filters: []wantConfig{
+				{"pf", Values{"particles": num(250), "resample": text("systematic")}, "particles=250", 51},
+				{"pf", Values{"particles": num(1000), "resample": text("systematic")}, "", 51},
+			},
+		},
+		{
 			// TOML v1.0.0, "String": a newline right after the opening """
 			// is trimmed; ''' opens a multi-line literal string. "Keys":
 			// 'runs' is a quoted key equal to runs. "Integer": the int64
@@ -200,40 +215,48 @@ func TestParseSuiteGood(t *testing.T) {
 	}
 }
 
-// harbourRadarHash is the SHA-256 of testdata/suites/harbour-radar.canonical,
-// computed once with GNU coreutils sha256sum; it checks Hash against an
-// implementation outside Go and pins the canonical form: a change to it
-// changes every suite's hash, so it must be deliberate.
-const harbourRadarHash = "824ef3701c9c8c7594d4bc66c97897a509e543d1fd888e6aa3515fd4a2053851"
+// The hashes are the SHA-256 of the .canonical golden files, computed once
+// with GNU coreutils sha256sum; they check Hash against an implementation
+// outside Go and pin the canonical form: a change to it changes every
+// suite's hash, so it must be deliberate.
+const (
+	harbourRadarHash = "824ef3701c9c8c7594d4bc66c97897a509e543d1fd888e6aa3515fd4a2053851"
+	harbourExprHash  = "b4efe01e0b1a16f5b21a2de4336992d97c7f1b7c4787ed8a8bf5e67650319db3"
+)
 
 func TestCanonicalGolden(t *testing.T) {
 	cat := suiteTestCatalogue()
-	s, err := ParseSuite("harbour-radar.toml", readSuiteFile(t, "good/harbour-radar.toml"), cat)
-	if err != nil {
-		t.Fatal(err)
-	}
-	golden := filepath.Join("testdata", "suites", "harbour-radar.canonical")
-	got := s.Canonical()
-	if *updateSuiteGolden {
-		if err := os.WriteFile(golden, got, 0o644); err != nil {
+	for _, tc := range []struct{ name, hash string }{
+		{"harbour-radar", harbourRadarHash},
+		{"harbour-launch-expr", harbourExprHash}, // expression models
+	} {
+		s, err := ParseSuite(tc.name+".toml", readSuiteFile(t, "good/"+tc.name+".toml"), cat)
+		if err != nil {
 			t.Fatal(err)
 		}
-	}
-	want, err := os.ReadFile(golden)
-	if err != nil {
-		t.Fatal(err)
-	}
-	if !bytes.Equal(got, want) {
-		if err := os.WriteFile(golden+".got", got, 0o644); err != nil {
+		golden := filepath.Join("testdata", "suites", tc.name+".canonical")
+		got := s.Canonical()
+		if *updateSuiteGolden {
+			if err := os.WriteFile(golden, got, 0o644); err != nil {
+				t.Fatal(err)
+			}
+		}
+		want, err := os.ReadFile(golden)
+		if err != nil {
 			t.Fatal(err)
 		}
-		t.Errorf("canonical form differs from %s (got written to %s.got; diff them, then rerun with -update-suite if the change is meant)", golden, golden)
-	}
-	if h := s.Hash(); h != harbourRadarHash {
-		t.Errorf("Hash() = %s, want %s", h, harbourRadarHash)
-	}
-	if sum := sha256.Sum256(want); hex.EncodeToString(sum[:]) != harbourRadarHash {
-		t.Errorf("sha256 of %s is not the committed hash; recompute it with sha256sum", golden)
+		if !bytes.Equal(got, want) {
+			if err := os.WriteFile(golden+".got", got, 0o644); err != nil {
+				t.Fatal(err)
+			}
+			t.Errorf("canonical form differs from %s (got written to %s.got; diff them, then rerun with -update-suite if the change is meant)", golden, golden)
+		}
+		if h := s.Hash(); h != tc.hash {
+			t.Errorf("%s: Hash() = %s, want %s", tc.name, h, tc.hash)
+		}
+		if sum := sha256.Sum256(want); hex.EncodeToString(sum[:]) != tc.hash {
+			t.Errorf("sha256 of %s is not the committed hash; recompute it with sha256sum", golden)
+		}
 	}
 }
 
