@@ -18,6 +18,8 @@ import (
 const dataUsage = `Usage:
   estbench data import --format F [flags] FILE... --out DIR
   estbench data show FILE...
+  estbench data list [NAME...]
+  estbench data fetch NAME [--dir DIR] [--accept-unverified] [--mirror URL]
 
 import converts recorded sensor data into one .arrow file per sequence
 (per track, per vessel) in DIR. F is one of:
@@ -40,6 +42,10 @@ nothing written (exit 2), unless --keep-going writes what could be read.
 show prints a file's metadata, span, sensors and, per column, its samples,
 mean rate and longest gap.
 
+list shows the catalogue of public datasets; fetch downloads one into the
+user cache folder (or --dir), resuming and verifying each file by sha256
+('estbench data fetch -h').
+
 Flags of import:
 `
 
@@ -56,12 +62,16 @@ func cmdData(args []string, stdout, stderr io.Writer) int {
 		return cmdDataImport(args[1:], stdout, stderr)
 	case "show":
 		return cmdDataShow(args[1:], stdout, stderr)
+	case "list":
+		return dataList(args[1:], stdout, stderr)
+	case "fetch":
+		return dataFetch(args[1:], stdout, stderr)
 	case "-h", "-help", "--help", "help":
 		fmt.Fprint(stderr, dataUsage)
 		dataFlags(stderr).PrintDefaults()
 		return exitOK
 	}
-	fmt.Fprintf(stderr, "estbench data: unknown subcommand %q%s; want import or show\n", args[0], didYouMean(args[0], []string{"import", "show"}))
+	fmt.Fprintf(stderr, "estbench data: unknown subcommand %q%s; want import, show, list or fetch\n", args[0], didYouMean(args[0], []string{"import", "show", "list", "fetch"}))
 	return exitUsage
 }
 
