@@ -170,15 +170,17 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 	M := len(a.runMSE) // usable (non-diverged) runs
 	switch {
 	case a.runs == 0:
-		s.Warnings = append(s.Warnings, "no runs were added; every metric is NaN")
+		s.Warnings = append(s.Warnings, "no runs were added, every metric is NaN")
 		return s
 	case a.diverged > 0:
 		reason, _, _ := strings.Cut(a.divReason, "\n")
+		// A note joins warnings with "; ", so a warning never contains one.
+		reason = strings.ReplaceAll(reason, "; ", ", ")
 		w := fmt.Sprintf("%d of %d runs diverged (first: run %d, step %d: %s)", a.diverged, a.runs, a.divRun, a.divStep, reason)
 		if M == 0 {
-			w += "; no run is left, so every metric is NaN: fix the divergence first"
+			w += ", no run is left, so every metric is NaN: fix the divergence first"
 		} else {
-			w += fmt.Sprintf("; the metrics use the other %d", M)
+			w += fmt.Sprintf(", the metrics use the other %d", M)
 		}
 		s.Warnings = append(s.Warnings, w)
 	}
@@ -186,7 +188,7 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 		return s
 	}
 	if M < looseRuns {
-		s.Warnings = append(s.Warnings, fmt.Sprintf("bounds from %d runs are loose; use --runs 20 or more", M))
+		s.Warnings = append(s.Warnings, fmt.Sprintf("bounds from %d runs are loose: use --runs 20 or more", M))
 	}
 
 	Mf, K := float64(M), float64(a.steps)
@@ -194,7 +196,7 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 	// RMSE over all runs and steps, and its bootstrap interval over runs.
 	s.RMSE = math.Sqrt(sum(a.sqErr) / (Mf * K))
 	if M < 2 {
-		s.Warnings = append(s.Warnings, "the RMSE interval needs at least 2 runs; use --runs 20 or more")
+		s.Warnings = append(s.Warnings, "the RMSE interval needs at least 2 runs: use --runs 20 or more")
 	} else {
 		s.RMSELo, s.RMSEHi = Bootstrap(M, a.Resamples, bootSeed, level, func(idx []int) float64 {
 			var m float64

@@ -83,8 +83,8 @@ func TestAccumulatorHandWorked(t *testing.T) {
 		t.Errorf("MeanESS %v, want NaN without ESS", s.MeanESS)
 	}
 	want := []string{
-		"1 of 4 runs diverged (first: run 2, step 2: NaN estimate); the metrics use the other 3",
-		"bounds from 3 runs are loose; use --runs 20 or more",
+		"1 of 4 runs diverged (first: run 2, step 2: NaN estimate), the metrics use the other 3",
+		"bounds from 3 runs are loose: use --runs 20 or more",
 	}
 	if !slices.Equal(s.Warnings, want) {
 		t.Errorf("Warnings\n%q\nwant\n%q", s.Warnings, want)
@@ -142,7 +142,7 @@ func TestAccumulatorAllDiverged(t *testing.T) {
 			t.Errorf("%s = %v, want NaN", name, v)
 		}
 	}
-	want := []string{"2 of 2 runs diverged (first: run 0, step 1: panic: index out of range); no run is left, so every metric is NaN: fix the divergence first"}
+	want := []string{"2 of 2 runs diverged (first: run 0, step 1: panic: index out of range), no run is left, so every metric is NaN: fix the divergence first"}
 	if s.Runs != 2 || s.Diverged != 2 || !slices.Equal(s.Warnings, want) {
 		t.Errorf("Runs %d Diverged %d Warnings %q", s.Runs, s.Diverged, s.Warnings)
 	}
@@ -151,14 +151,14 @@ func TestAccumulatorAllDiverged(t *testing.T) {
 	}
 
 	empty := NewAccumulator(2, 1, 1).Summary(0)
-	if !math.IsNaN(empty.RMSE) || !slices.Equal(empty.Warnings, []string{"no runs were added; every metric is NaN"}) {
+	if !math.IsNaN(empty.RMSE) || !slices.Equal(empty.Warnings, []string{"no runs were added, every metric is NaN"}) {
 		t.Errorf("empty: RMSE %v Warnings %q", empty.RMSE, empty.Warnings)
 	}
 
 	one := NewAccumulator(1, 1, 0)
 	one.Add(&RunTrace{Run: 0, SqErr: []float64{4}, NEES: []float64{1}})
 	s = one.Summary(0)
-	if s.RMSE != 2 || !math.IsNaN(s.RMSELo) || len(s.Warnings) != 2 || s.Warnings[1] != "the RMSE interval needs at least 2 runs; use --runs 20 or more" {
+	if s.RMSE != 2 || !math.IsNaN(s.RMSELo) || len(s.Warnings) != 2 || s.Warnings[1] != "the RMSE interval needs at least 2 runs: use --runs 20 or more" {
 		t.Errorf("one run: RMSE %v [%v, %v] Warnings %q", s.RMSE, s.RMSELo, s.RMSEHi, s.Warnings)
 	}
 }

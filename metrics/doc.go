@@ -81,7 +81,7 @@
 //
 //   - "N of M runs diverged (first: run r, step k: reason)", with the first
 //     line of the first diverged run's reason;
-//   - "bounds from N runs are loose; use --runs 20 or more" with fewer than
+//   - "bounds from N runs are loose: use --runs 20 or more" with fewer than
 //     10 usable runs (a common rule of thumb, no source);
 //   - "the RMSE interval needs at least 2 runs" with one usable run;
 //   - "no runs were added" when Add was never called.

@@ -31,9 +31,9 @@ func ExampleAccumulator() {
 	}
 	// Output:
 	// rmse 1.732 anees 2.000 anis 1.000, 1 of 2 diverged
-	// 1 of 2 runs diverged (first: run 1, step 2: covariance not positive definite); the metrics use the other 1
-	// bounds from 1 runs are loose; use --runs 20 or more
-	// the RMSE interval needs at least 2 runs; use --runs 20 or more
+	// 1 of 2 runs diverged (first: run 1, step 2: covariance not positive definite), the metrics use the other 1
+	// bounds from 1 runs are loose: use --runs 20 or more
+	// the RMSE interval needs at least 2 runs: use --runs 20 or more
 }
 
 // A paired bootstrap of the relative change of mean squared error between

@@ -330,9 +330,11 @@ func writeBudgetHuman(w io.Writer, plans []BudgetPlan, opt BudgetOptions, prov P
 			h.cells = append(h.cells, c)
 		}
 		for _, e := range pl.Excluded {
-			n := pl.Problem + ": " + e.Filter
+			n := pl.Problem + ": " + e.Filter + " "
 			if e.Config != "" {
-				n += " " + e.Config
+				n += e.Config
+			} else {
+				n += "default"
 			}
 			h.notes = append(h.notes, n+" left out: "+e.Reason)
 		}

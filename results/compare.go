@@ -795,10 +795,10 @@ func pctChange(v float64) string {
 		return "-inf%"
 	}
 	p := 100 * v
-	if math.Abs(p) >= tooWide {
-		return strconv.FormatFloat(p, 'e', 2, 64) + "%"
-	}
 	s := strconv.FormatFloat(p, 'f', 2, 64)
+	if math.Abs(p) >= tooWide {
+		s = strconv.FormatFloat(p, 'e', 2, 64)
+	}
 	if !strings.HasPrefix(s, "-") {
 		s = "+" + s
 	}
