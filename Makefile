@@ -27,3 +27,7 @@ fuzz:
 	$(GO) test -run '^$$' -fuzz '^FuzzAIS$$' -fuzztime 10s -fuzzminimizetime 200x ./datasets/navlog/
 	$(GO) test -run '^$$' -fuzz '^FuzzGPX$$' -fuzztime 10s -fuzzminimizetime 200x ./datasets/navlog/
 	$(GO) test -run '^$$' -fuzz '^FuzzAISCSV$$' -fuzztime 10s -fuzzminimizetime 200x ./datasets/navlog/
+	$(GO) test -run '^$$' -fuzz '^FuzzCSV$$' -fuzztime 10s -fuzzminimizetime 200x ./datasets/recorded/
+	$(GO) test -run '^$$' -fuzz '^FuzzASL$$' -fuzztime 10s -fuzzminimizetime 200x ./datasets/recorded/
+	$(GO) test -run '^$$' -fuzz '^FuzzSmartphone$$' -fuzztime 10s -fuzzminimizetime 200x ./datasets/recorded/
+	$(GO) test -run '^$$' -fuzz '^FuzzMapping$$' -fuzztime 10s -fuzzminimizetime 200x ./datasets/recorded/

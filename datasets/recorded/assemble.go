@@ -14,7 +14,8 @@ import (
 type stream struct {
 	sensor string
 	file   string
-	t      []int64
+	t      []int64   // sample times, ns in the source's time base
+	tf     []float64 // after order: seconds from the origin
 	lines  []int32
 	cols   []Column
 	sorted bool // t has never gone backwards
@@ -46,9 +47,11 @@ func (s *stream) add(t int64, line int, values []float64) {
 	}
 }
 
-// order sorts the samples by time (stably, so equal times keep file order)
-// and drops every sample whose time an earlier one has, reporting it.
-func (s *stream) order(e *errs) {
+// order sorts the samples by time (stably, so equal times keep file
+// order), sets tf to their seconds from origin and drops every sample
+// whose tf an earlier one has (the same time, or one too close to tell
+// apart in float64 seconds), reporting it. It releases t.
+func (s *stream) order(e *errs, origin int64) {
 	if !s.sorted {
 		perm := make([]int, len(s.t))
 		for i := range perm {
@@ -62,24 +65,43 @@ func (s *stream) order(e *errs) {
 		}
 		s.sorted = true
 	}
+	s.tf = make([]float64, len(s.t))
 	w := 0
-	for r := range s.t {
-		if w > 0 && s.t[r] == s.t[w-1] {
-			e.add(s.file, int(s.lines[r]), "", "duplicate time: line "+strconv.Itoa(int(s.lines[w-1]))+" has the same "+s.sensor+" time")
+	for r, t := range s.t {
+		tf := seconds(t, origin)
+		if w > 0 && tf == s.tf[w-1] {
+			prev := strconv.Itoa(int(s.lines[w-1]))
+			if t == s.t[w-1] {
+				e.add(s.file, int(s.lines[r]), "", "duplicate time: line "+prev+" has the same "+s.sensor+" time")
+			} else {
+				e.add(s.file, int(s.lines[r]), "", "time too close to that of line "+prev+" to tell apart in float64 seconds from the origin")
+			}
 			continue
 		}
+		s.tf[w], s.t[w], s.lines[w] = tf, t, s.lines[r]
 		if w != r {
-			s.t[w], s.lines[w] = s.t[r], s.lines[r]
 			for i := range s.cols {
 				s.cols[i].Values[w] = s.cols[i].Values[r]
 			}
 		}
 		w++
 	}
-	s.t, s.lines = s.t[:w], s.lines[:w]
+	s.tf = s.tf[:w]
 	for i := range s.cols {
 		s.cols[i].Values = s.cols[i].Values[:w]
 	}
+	s.t, s.lines = nil, nil
+}
+
+// seconds returns the time t ns after origin in seconds: the nearest
+// float64 to the exact difference, unless that overflows int64 (times
+// ±292 years apart), when it is computed in float64.
+func seconds(t, origin int64) float64 {
+	d := t - origin
+	if (t >= origin) != (d >= 0) {
+		return float64(t)/1e9 - float64(origin)/1e9
+	}
+	return float64(d) / 1e9
 }
 
 func permute[T any](v []T, perm []int) []T {
@@ -90,69 +112,64 @@ func permute[T any](v []T, perm []int) []T {
 	return out
 }
 
-// assemble joins streams on time into one recording. Times are shifted by
-// origin nanoseconds (T = (t - origin)/1e9); when unix is true, Start is
-// that instant. Streams must be ordered.
+// assemble joins ordered streams on time into one recording; when unix
+// is true, Start is the instant origin (ns after the Unix epoch).
 func assemble(meta Meta, streams []*stream, origin int64, unix bool) *Recording {
 	rec := &Recording{Meta: meta}
 	if unix {
 		rec.Meta.Start = time.Unix(0, origin).UTC()
 	}
-	times := unionTimes(streams)
-	rec.T = make([]float64, len(times))
-	for i, t := range times {
-		rec.T[i] = float64(t-origin) / 1e9
-	}
+	rec.T = unionTimes(streams)
 	rec.Meta.Sensors = nil
 	for _, s := range streams {
-		sen := Sensor{Name: s.sensor, Samples: len(s.t)}
-		if n := len(s.t); n >= 2 && s.t[n-1] > s.t[0] {
-			sen.RateHz = float64(n-1) / (float64(s.t[n-1]-s.t[0]) / 1e9)
+		sen := Sensor{Name: s.sensor, Samples: len(s.tf)}
+		if n := len(s.tf); n >= 2 && s.tf[n-1] > s.tf[0] {
+			sen.RateHz = float64(n-1) / (s.tf[n-1] - s.tf[0])
 		}
-		same := len(s.t) == len(times)
+		same := len(s.tf) == len(rec.T)
 		for i := range s.cols {
 			c := s.cols[i]
 			sen.Columns = append(sen.Columns, c.Name)
 			if same {
 				c.Valid = nanBitmap(c.Values)
 			} else {
-				c.Values, c.Valid = scatter(times, s.t, c.Values)
+				c.Values, c.Valid = scatter(rec.T, s.tf, c.Values)
 			}
 			rec.Columns = append(rec.Columns, c)
 		}
 		rec.Meta.Sensors = append(rec.Meta.Sensors, sen)
-		s.t, s.lines, s.cols = nil, nil, nil
+		s.tf, s.cols = nil, nil
 	}
 	return rec
 }
 
 // unionTimes returns the sorted distinct times of all streams; a stream
 // whose times are the union is returned as is.
-func unionTimes(streams []*stream) []int64 {
-	var u []int64
+func unionTimes(streams []*stream) []float64 {
+	var u []float64
 	for _, s := range streams {
 		switch {
 		case u == nil:
-			u = s.t
-		case !slices.Equal(u, s.t):
-			u = mergeTimes(u, s.t)
+			u = s.tf
+		case !slices.Equal(u, s.tf):
+			u = mergeTimes(u, s.tf)
 		}
 	}
 	for _, s := range streams {
-		if len(s.t) == len(u) {
+		if len(s.tf) == len(u) {
 			// equal to the union, as every stream's times are in it
-			u = s.t
+			u = s.tf
 			break
 		}
 	}
 	if u == nil {
-		u = []int64{}
+		u = []float64{}
 	}
 	return u
 }
 
-func mergeTimes(a, b []int64) []int64 {
-	out := make([]int64, 0, max(len(a), len(b)))
+func mergeTimes(a, b []float64) []float64 {
+	out := make([]float64, 0, max(len(a), len(b)))
 	i, j := 0, 0
 	for i < len(a) && j < len(b) {
 		switch {
@@ -173,7 +190,7 @@ func mergeTimes(a, b []int64) []int64 {
 
 // scatter spreads the values at times t (a subset of all) over all times,
 // NaN and null elsewhere.
-func scatter(all, t []int64, v []float64) ([]float64, Bitmap) {
+func scatter(all, t, v []float64) ([]float64, Bitmap) {
 	out := make([]float64, len(all))
 	valid := NewBitmap(len(all))
 	j := 0

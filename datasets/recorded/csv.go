@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 )
@@ -70,25 +71,29 @@ func loadCSVFile(path string, fm *fileMapping, e *errs) (*stream, error) {
 	return readCSV(path, f, size, fm, e)
 }
 
-// finish orders the streams, joins them and checks the result. With unix
-// time the origin is origin, or the first sample's time when origin is 0.
+// finish orders the streams, joins them and checks the result. Times
+// count from 0 of the source's time base, or with unix time from origin,
+// or from the first sample when origin is 0.
 func finish(file string, meta Meta, streams []*stream, unix bool, origin int64, e *errs) (*Recording, error) {
-	first := int64(math.MaxInt64)
-	for _, s := range streams {
-		s.order(e)
-		if len(s.t) > 0 {
-			first = min(first, s.t[0])
-		}
-	}
-	if unix && origin == 0 && first != math.MaxInt64 {
-		origin = first
-	}
 	if !unix {
 		origin = 0
+	} else if origin == 0 {
+		first := int64(math.MaxInt64)
+		for _, s := range streams {
+			if len(s.t) > 0 {
+				first = min(first, slices.Min(s.t))
+			}
+		}
+		if first != math.MaxInt64 {
+			origin = first
+		}
+	}
+	for _, s := range streams {
+		s.order(e, origin)
 	}
 	rec := assemble(meta, streams, origin, unix)
 	if err := rec.Validate(); err != nil {
-		return nil, &LoadError{File: file, Msg: err.Error() + " (times too close for float64 seconds from the origin?)"}
+		panic("recorded: assembled an invalid recording: " + err.Error())
 	}
 	return rec, e.err()
 }

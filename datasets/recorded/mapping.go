@@ -1,6 +1,7 @@
 package recorded
 
 import (
+	"bytes"
 	"errors"
 	"fmt"
 	"path"
@@ -91,7 +92,12 @@ func ParseMapping(file string, data []byte) (*Mapping, error) {
 	if _, err := toml.Decode(string(data), &raw); err != nil {
 		var pe toml.ParseError
 		if errors.As(err, &pe) {
-			return nil, ErrorList{{File: file, Line: max(pe.Position.Line, 0), Msg: "TOML syntax: " + pe.Message}}
+			line := pe.Position.Line
+			if line < 1 {
+				// The decoder gives no line for some mistakes at the end of the input.
+				line = bytes.Count(data, []byte{'\n'}) + 1
+			}
+			return nil, ErrorList{{File: file, Line: line, Msg: "TOML syntax: " + pe.Message}}
 		}
 		return nil, ErrorList{{File: file, Msg: err.Error()}}
 	}
@@ -437,7 +443,7 @@ func editDistance(a, b string) int {
 // "file.0.quantity.1.unit". The decoder gives no positions for valid
 // keys, hence this small scanner: it follows [table] and [[array]]
 // headers and key = value lines, and skips comments, strings and values
-// that run over several lines. A dotted key is recorded whole; keys of
+// that run over several lines. A dotted key is recorded under each of its prefixes; keys of
 // inline tables have no line of their own (lookups fall back to the
 // enclosing key or table).
 type tomlLines map[string]int
@@ -445,7 +451,7 @@ type tomlLines map[string]int
 // line returns the line of key in the table at path, falling back to the
 // table's header line, or 0.
 func (l tomlLines) line(path, key string) int {
-	if key != "" {
+	if key != "" || path == "" {
 		if n, ok := l[joinPath(path, key)]; ok {
 			return n
 		}
@@ -480,15 +486,19 @@ func scanTOMLLines(data []byte) tomlLines {
 		}
 		if t[0] == '[' {
 			array := strings.HasPrefix(t, "[[")
-			end := strings.Index(t, "]")
+			name := strings.TrimPrefix(t[1:], "[")
+			end := keyEnd(name, ']')
 			if end < 0 {
 				continue
 			}
-			segs := splitKey(strings.Trim(t[:end], "[ \t"))
+			segs := splitKey(name[:end])
 			// Resolve the parents against the arrays seen so far.
 			p := ""
 			for i, s := range segs {
 				p = joinPath(p, s)
+				if _, ok := l[p]; !ok {
+					l[p] = line // a table first named here, perhaps implicitly
+				}
 				if i < len(segs)-1 || !array {
 					if c, ok := count[p]; ok {
 						p += "." + strconv.Itoa(c-1)
@@ -506,22 +516,26 @@ func scanTOMLLines(data []byte) tomlLines {
 			}
 			continue
 		}
-		eq := keyEnd(t)
+		eq := keyEnd(t, '=')
 		if eq < 0 {
 			continue
 		}
-		key := strings.Join(splitKey(t[:eq]), ".")
-		if _, ok := l[joinPath(cur, key)]; !ok {
-			l[joinPath(cur, key)] = line
+		// Record a dotted key a.b under a and a.b.
+		k := cur
+		for _, seg := range splitKey(t[:eq]) {
+			k = joinPath(k, seg)
+			if _, ok := l[k]; !ok {
+				l[k] = line
+			}
 		}
 		depth, multi = scanValue(t[eq+1:], 0, "")
 	}
 	return l
 }
 
-// keyEnd returns the index of the '=' ending the key of a key/value line,
-// or -1.
-func keyEnd(t string) int {
+// keyEnd returns the index of the first end outside quotes (the '=' of a
+// key/value line, the ']' of a table header), or -1.
+func keyEnd(t string, end byte) int {
 	var q byte
 	for i := 0; i < len(t); i++ {
 		c := t[i]
@@ -532,22 +546,60 @@ func keyEnd(t string) int {
 			}
 		case c == '"' || c == '\'':
 			q = c
-		case c == '=':
+		case c == end:
 			return i
 		}
 	}
 	return -1
 }
 
-// splitKey splits a dotted TOML key into its parts, unquoting them.
+// splitKey splits a dotted TOML key into its parts, unquoting quoted
+// parts ("a.b" is one part).
 func splitKey(k string) []string {
 	var segs []string
-	for _, s := range strings.Split(k, ".") {
-		s = strings.TrimSpace(s)
-		s = strings.Trim(s, `"'`)
-		segs = append(segs, s)
+	for {
+		k = strings.TrimLeft(k, " \t")
+		var seg string
+		switch {
+		case strings.HasPrefix(k, `"`):
+			j := 1
+			for j < len(k) && k[j] != '"' {
+				if k[j] == '\\' {
+					j++
+				}
+				j++
+			}
+			if j >= len(k) { // unterminated: the decoder would have refused it
+				seg, k = k[1:], ""
+				break
+			}
+			if u, err := strconv.Unquote(k[:j+1]); err == nil {
+				seg = u
+			} else {
+				seg = k[1:j]
+			}
+			k = k[j+1:]
+		case strings.HasPrefix(k, "'"):
+			j := strings.IndexByte(k[1:], '\'')
+			if j < 0 {
+				seg, k = k[1:], ""
+				break
+			}
+			seg, k = k[1:j+1], k[j+2:]
+		default:
+			j := strings.IndexByte(k, '.')
+			if j < 0 {
+				j = len(k)
+			}
+			seg, k = strings.TrimRight(k[:j], " \t"), k[j:]
+		}
+		segs = append(segs, seg)
+		k = strings.TrimLeft(k, " \t")
+		if !strings.HasPrefix(k, ".") {
+			return segs
+		}
+		k = k[1:]
 	}
-	return segs
 }
 
 // scanValue follows brackets and strings of a value over one line and
