@@ -66,6 +66,11 @@ particles = 200
 		if w := want[p.Problem+" "+p.Filter]; p.EvalsPerStep != w {
 			t.Errorf("%s %s: %v evaluations per step, want %v", p.Problem, p.Filter, p.EvalsPerStep, w)
 		}
+		// The probe runs on the counting model; its steps still allocate
+		// nothing (the project's rule for every filter).
+		if p.AllocsPerStep != 0 {
+			t.Errorf("%s %s: %v allocations per step on the counting model, want 0", p.Problem, p.Filter, p.AllocsPerStep)
+		}
 	}
 	if seen != len(want) {
 		t.Errorf("%d applicable pairs, want %d", seen, len(want))
@@ -114,5 +119,36 @@ func TestCountingModelKeepsFallbacks(t *testing.T) {
 	}
 	if got := float64(n.evals) / steps; got != 6 {
 		t.Errorf("%v evaluations per step, want 6", got)
+	}
+}
+
+// The counters themselves allocate nothing per call.
+func TestCountingModelAllocates0(t *testing.T) {
+	spec, _ := Builtin().Problem("ctrb")
+	prob, err := spec.Build(Defaults(spec.Params))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var n evalCount
+	cm := countingModel(prob.Model, &n)
+	nx, nz := cm.Nx, cm.Nz
+	x, fx := make([]float64, 3*nx), make([]float64, 3*nx)
+	copy(x, prob.X0)
+	copy(x[nx:], prob.X0)
+	copy(x[2*nx:], prob.X0)
+	z, jac := make([]float64, 3*nz), make([]float64, nx*nx)
+	allocs := testing.AllocsPerRun(100, func() {
+		cm.F(fx[:nx], x[:nx], 1)
+		cm.H(z[:nz], x[:nx], 1)
+		cm.FJac(jac, x[:nx], 1)
+		cm.FMany(fx, x, 1)
+		cm.HMany(z, x, 1)
+	})
+	if allocs != 0 {
+		t.Errorf("%v allocations per call, want 0", allocs)
+	}
+	// 101 rounds (AllocsPerRun adds a warm-up) of 1 + 1 + 1 + 3 + 3.
+	if n.evals != 101*9 {
+		t.Errorf("%d evaluations counted, want %d", n.evals, 101*9)
 	}
 }

@@ -254,12 +254,13 @@ func (k rowKey) String() string {
 //     the interval of the anees change also lies beyond zero and the
 //     tolerance in that direction, since with different data a filter
 //     whose ANEES lies near a bound, or is heavy-tailed, crosses it by
-//     chance; otherwise the move is noted and counts as same); when it is outside on
-//     the same side on both (high on both, or low on both), the anees change
-//     is judged as above, in the direction away from the bounds (higher is
-//     worse when high, lower is worse when low); when it crossed from one
-//     side to the other, worse when its distance |log(ANEES/nearest bound)|
-//     grew by more than log(1+t), better when it shrank by more.
+//     chance; otherwise the move is noted and counts as same); when it is
+//     outside on the same side on both (high on both, or low on both), the
+//     anees change is judged as above, in the direction away from the
+//     bounds (higher is worse when high, lower is worse when low); when it
+//     crossed from one side to the other, worse when its distance
+//     |log(ANEES/nearest bound)| grew by more than log(1+t), better when it
+//     shrank by more.
 //
 // A row only in the base folder is gone, one only in the new folder is new.
 // A row that ran in the base folder and no longer applies in the new one is

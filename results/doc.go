@@ -2,6 +2,14 @@
 // a summary table in five formats (Formats), Parquet files of the summary,
 // of every run and of the per-step curves, summary.md and manifest.json.
 //
+// It also reads result folders back: Compare matches two of them row by
+// row (the regression gate; pairing, intervals and verdict rules are in
+// its documentation) and WriteComparison shows the result; Budget chooses,
+// per problem, from the accuracy/cost front of one folder under a budget
+// per step in ns or model evaluations, and WriteBudget shows it. Their
+// json keys (CompareColumns, and the fields listed in WriteBudget) are
+// part of the contract, as the columns are.
+//
 // # Columns
 //
 // The summary columns (SummaryColumns), the run columns (RunColumns) and
