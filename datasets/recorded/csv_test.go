@@ -301,10 +301,10 @@ time_unit = "s"
 	want := []string{
 		file + `:3: gy: not a number: "x"`,
 		file + ":4: 2 fields; the header has 3",
+		file + ":5: duplicate time: line 2 has the same imu time",
 		file + ":6: t: no time",
 		file + `:7: gx: not finite: "inf"`,
 		file + `:9: gy: number out of range: "1e999"`,
-		file + ":5: duplicate time: line 2 has the same imu time",
 	}
 	if len(list) != len(want) {
 		t.Fatalf("errors:\n%v\nwant %d", err, len(want))

@@ -1,6 +1,7 @@
 package recorded
 
 import (
+	"sort"
 	"strconv"
 	"strings"
 )
@@ -71,10 +72,24 @@ func (c *errs) add(file string, line int, field, msg string) bool {
 
 func (c *errs) full() bool { return len(c.list) >= maxErrors }
 
-// err returns the list, or nil when it is empty.
+// err returns the list in file order (files in the order first seen,
+// then by line), or nil when it is empty.
 func (c *errs) err() error {
 	if len(c.list) == 0 {
 		return nil
 	}
+	rank := map[string]int{}
+	for _, e := range c.list {
+		if _, ok := rank[e.File]; !ok {
+			rank[e.File] = len(rank)
+		}
+	}
+	sort.SliceStable(c.list, func(i, j int) bool {
+		a, b := c.list[i], c.list[j]
+		if rank[a.File] != rank[b.File] {
+			return rank[a.File] < rank[b.File]
+		}
+		return a.Line < b.Line
+	})
 	return c.list
 }
