@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"math"
 	"reflect"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -44,21 +45,15 @@ var exprFuncNames = []string{
 	"abs", "floor", "ceil", "round", "min", "max", "mod", "wrap",
 }
 
-// exprReserved are names an expression model may not give a state, a
-// measurement or a parameter: the step variables, the constant pi, the
-// table key steps (a parameter of every expression model) and the
-// functions.
+// exprReserved are names an expression model may not give a state or a
+// parameter: the step variables, the constant pi, the table key steps (a
+// parameter of every expression model) and the functions.
 func exprReserved(name string) bool {
 	switch name {
 	case "k", "t", "dt", "pi", "steps":
 		return true
 	}
-	for _, f := range exprFuncNames {
-		if f == name {
-			return true
-		}
-	}
-	return false
+	return slices.Contains(exprFuncNames, name)
 }
 
 func exprFunc1(name string) func(float64) float64 {
@@ -244,7 +239,7 @@ func unknownNames(root ast.Node, states, params, meas []string) *exprError {
 	}
 	e := &exprError{from: first.Location().From, msg: fmt.Sprintf("unknown %s %q", what, name)}
 	switch {
-	case contains(meas, name):
+	case slices.Contains(meas, name):
 		e.hint = fmt.Sprintf(" (%q is a measurement; expressions read states, params, k, t, dt and pi)", name)
 	case what == "function":
 		e.hint = hint(name, candidates, "functions")
@@ -276,15 +271,6 @@ func (c *nameCollector) Visit(n *ast.Node) {
 	case *ast.VariableDeclaratorNode:
 		c.lets = append(c.lets, n.Name)
 	}
-}
-
-func contains(list []string, s string) bool {
-	for _, v := range list {
-		if v == s {
-			return true
-		}
-	}
-	return false
 }
 
 // exprPosition describes rune offset from of src as "column c" or, for an
@@ -680,9 +666,11 @@ func applyOp(op byte, a, b float64) float64 {
 }
 
 // intZero makes a node of integer type give +0 where the library's integer
-// arithmetic gives 0 and float64 arithmetic -0 (-k, k*-3 or -4 % 2 at
-// k = 0): adding 0 turns -0 into +0 and changes no other value. Integer
-// results beyond ±2^53, where float64 rounds and int wraps, are not
+// arithmetic gives 0 and float64 arithmetic -0 (-0, 0*-3 or -4 % 2 written
+// with integer literals; k is a float64, so only literals are integers,
+// and the library's optimizer folds most such terms before the lowering
+// sees them): adding 0 turns -0 into +0 and changes no other value.
+// Integer results beyond ±2^53, where float64 rounds and int wraps, are not
 // matched.
 func intZero(n ast.Node, a numNode) numNode {
 	t := n.Type()
@@ -974,11 +962,11 @@ func isCondNode(n ast.Node) bool {
 
 // quoteExprNode is n's source form, quoted, shortened when long.
 func quoteExprNode(n ast.Node) string {
-	s := n.String()
+	s := []rune(n.String())
 	if len(s) > 40 {
-		s = s[:37] + "..."
+		s = append(s[:37], []rune("...")...)
 	}
-	return strconv.Quote(s)
+	return strconv.Quote(string(s))
 }
 
 // describeNode names the construct of a node the models do not support.
@@ -1072,7 +1060,7 @@ type exprModel struct {
 	linear       bool          // every expression is affine in the state
 }
 
-// exprParamsOf are the spec parameters of an expression model: steps, dt
+// specParams are the spec parameters of an expression model: steps, dt
 // and its named parameters, each defaulting to the table's value.
 func (m *exprModel) specParams() []Param {
 	ps := []Param{
@@ -1149,23 +1137,14 @@ func (m *exprModel) build(v Values) (*datasets.Problem, error) {
 		p.Traits.NonDifferentiable = "is declared not differentiable (differentiable = false)"
 	}
 	for _, s := range m.scored {
-		p.Scored = append(p.Scored, indexOf(m.states, s))
+		p.Scored = append(p.Scored, slices.Index(m.states, s))
 	}
 	for _, a := range m.angles {
-		if i := indexOf(m.states, a); i >= 0 {
+		if i := slices.Index(m.states, a); i >= 0 {
 			p.Model.AngleState = append(p.Model.AngleState, i)
 		} else {
-			p.Model.AngleMeas = append(p.Model.AngleMeas, indexOf(m.measurements, a))
+			p.Model.AngleMeas = append(p.Model.AngleMeas, slices.Index(m.measurements, a))
 		}
 	}
 	return p, nil
-}
-
-func indexOf(list []string, s string) int {
-	for i, v := range list {
-		if v == s {
-			return i
-		}
-	}
-	return -1
 }

@@ -281,6 +281,7 @@ var exprCases = []string{
 	"c*sin(0.3*t)*x + exp(-k/10)",
 	"k == 2 ? 1 : 0",
 	"(x > 1 ? x > 2 : y > 2) ? 1 : -1",
+	"1/(0 * -3) + 1/(-4 % 2) + 1/(-(2 - 2)) + x", // integer zeros are +0
 }
 
 // The lowered closures agree bit for bit with the library's own virtual

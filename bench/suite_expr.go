@@ -129,9 +129,11 @@ func (t *exprTable) key(key string, v any) error {
 	var msg string
 	switch key {
 	case "states":
-		m.states, msg = t.nameList(key, v)
+		m.states, msg = t.nameList(key, v, true)
 	case "measurements":
-		m.measurements, msg = t.nameList(key, v)
+		// Measurement names label angles and messages; expressions do not
+		// read them, so they may be words the expressions reserve.
+		m.measurements, msg = t.nameList(key, v, false)
 	case "params":
 		tab, ok := v.(map[string]any)
 		if !ok {
@@ -220,8 +222,9 @@ func (t *exprTable) key(key string, v any) error {
 	return nil
 }
 
-// nameList reads a non-empty list of distinct names.
-func (t *exprTable) nameList(key string, v any) ([]string, string) {
+// nameList reads a non-empty list of distinct names; reserved says whether
+// the names must also be free for expressions.
+func (t *exprTable) nameList(key string, v any, reserved bool) ([]string, string) {
 	list, msg := stringList(key, v)
 	if msg != "" {
 		return nil, msg
@@ -230,7 +233,11 @@ func (t *exprTable) nameList(key string, v any) ([]string, string) {
 		return nil, key + ": empty list; a model needs at least one"
 	}
 	for j, s := range list {
-		if msg := checkName(s); msg != "" {
+		msg := checkName(s)
+		if !reserved && !strings.HasPrefix(msg, fmt.Sprintf("%q is not a name", s)) {
+			msg = ""
+		}
+		if msg != "" {
 			return nil, key + ": " + msg
 		}
 		if slices.Index(list, s) < j {
