@@ -323,7 +323,15 @@ func (w *worker) run(r int, jr *jobResult) {
 // of the filter over a counting copy of the model (countingModel); the
 // counters allocate nothing, so the allocations are those of the filter.
 // Call it while no other run is in progress.
+//
+// A panic in the probe is not reported here: probe returns NaN and the
+// same run, repeated as part of the suite, records the divergence.
 func (w *worker) probe(c int) (allocs, evals float64) {
+	defer func() {
+		if recover() != nil {
+			allocs, evals = math.NaN(), math.NaN()
+		}
+	}()
 	var n evalCount
 	cm := countingModel(w.prob.Model, &n)
 	fc := w.plan.filters[c]
@@ -387,8 +395,8 @@ func countingModel(m filters.Model, n *evalCount) filters.Model {
 }
 
 // runFilter runs configuration c on the current sequence and scores it.
-// It is the one place where a filter's panic is recovered: the run is then
-// recorded as diverged at the step that panicked, with the reason.
+// It is where a filter's panic is recovered (probe only discards its own): the
+// run is then recorded as diverged at the step that panicked, with the reason.
 func (w *worker) runFilter(c, r int, tr *metrics.RunTrace, ess []float64) {
 	tr.Run = r
 	tr.Diverged, tr.DivStep, tr.Reason = false, 0, ""

@@ -190,6 +190,7 @@ type faulty struct {
 	mode string
 	run  *int
 	bad  map[int]bool
+	step int // the step that fails; 0 means 7
 }
 
 func (f *faulty) Reset(x0, p0 []float64, rng *rand.Rand) error {
@@ -198,7 +199,11 @@ func (f *faulty) Reset(x0, p0 []float64, rng *rand.Rand) error {
 }
 
 func (f *faulty) Predict(k int) error {
-	if f.bad[*f.run] && k == 7 {
+	at := f.step
+	if at == 0 {
+		at = 7
+	}
+	if f.bad[*f.run] && k == at {
 		if f.mode == "panic" {
 			var s []int
 			_ = s[k] // an index out of range, as a buggy filter would
@@ -339,5 +344,45 @@ particles = 500
 	// The pf's confidence interval lies wholly below the ekf's.
 	if !(pf.RMSEHi < ekf.RMSELo) {
 		t.Fatalf("intervals overlap: pf [%.2f, %.2f], ekf [%.2f, %.2f]", pf.RMSELo, pf.RMSEHi, ekf.RMSELo, ekf.RMSEHi)
+	}
+}
+
+// A filter that panics on its very first step of every run (so also in the
+// allocation and evaluation probe) is recorded as diverged in every run,
+// and the rest of the suite goes on.
+func TestRunPanicInProbeRun(t *testing.T) {
+	cat := Builtin()
+	cat.Filters = append(cat.Filters, FilterSpec{
+		Name:    "alwayspanics",
+		Summary: "a kf that panics at step 1 (tests only)",
+		Applies: func(t datasets.Traits) (bool, string) { return t.Linear, "needs a linear model" },
+		New: func(m *filters.Model, v Values) (filters.Filter, error) {
+			kf, err := filters.NewKF(m, filters.KFConfig{})
+			bad := map[int]bool{}
+			run := -1
+			for i := 0; i < 100; i++ {
+				bad[i] = true
+			}
+			return &faulty{Filter: kf, mode: "panic", run: &run, bad: bad, step: 1}, err
+		},
+	})
+	s := mustParse(t, `
+name = "survey-drone-probe"
+seed = 3
+runs = 4
+[[problem]]
+use = "cv2d"
+steps = 10
+[[filter]]
+use = "alwayspanics"
+[[filter]]
+use = "kf"
+`, cat)
+	out, _ := runWith(t, s, 2)
+	if p := out.Pairs[0]; p.Summary.Diverged != 4 || !math.IsNaN(p.AllocsPerStep) {
+		t.Fatalf("panicking filter: diverged %d of 4, allocs %v", p.Summary.Diverged, p.AllocsPerStep)
+	}
+	if p := out.Pairs[1]; p.Summary.Diverged != 0 || math.IsNaN(p.Summary.RMSE) {
+		t.Fatalf("kf affected: %+v", p.Summary)
 	}
 }
