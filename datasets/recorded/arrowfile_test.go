@@ -2,9 +2,12 @@ package recorded
 
 import (
 	"bytes"
+	"encoding/json"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"reflect"
 	"strings"
@@ -237,5 +240,85 @@ func TestSequenceTo(t *testing.T) {
 	}
 	if err := rec.SequenceTo(&seq, nil, []string{"x"}); err == nil {
 		t.Error("no measured columns accepted")
+	}
+}
+
+// TestArrowIndependentReader reads a recording with apache-arrow 21.2.0
+// (the Apache Arrow project's JavaScript implementation, Apache-2.0, from
+// the npm registry), which shares no code with arrow-go, through
+// testdata/check_arrow.mjs, and compares schema, metadata, nulls and the
+// bits of every value. It needs node and the package folder in
+// ESTBENCH_APACHE_ARROW (npm install apache-arrow@21.2.0; the folder is
+// node_modules/apache-arrow) and is skipped without them.
+func TestArrowIndependentReader(t *testing.T) {
+	pkg := os.Getenv("ESTBENCH_APACHE_ARROW")
+	if pkg == "" {
+		t.Skip("set ESTBENCH_APACHE_ARROW to an apache-arrow package folder (npm install apache-arrow@21.2.0) to check the files with a second Arrow reader")
+	}
+	node, err := exec.LookPath("node")
+	if err != nil {
+		t.Skip("node not found")
+	}
+	rec := oddRecording()
+	p := filepath.Join(t.TempDir(), "odd.arrow")
+	if err := WriteFile(p, rec); err != nil {
+		t.Fatal(err)
+	}
+	out, err := exec.Command(node, filepath.Join("testdata", "check_arrow.mjs"), pkg, p).Output()
+	if err != nil {
+		t.Fatalf("node: %v", err)
+	}
+	var got struct {
+		Rows     int               `json:"rows"`
+		Metadata map[string]string `json:"metadata"`
+		Fields   []struct {
+			Name     string            `json:"name"`
+			Type     string            `json:"type"`
+			Nullable bool              `json:"nullable"`
+			Metadata map[string]string `json:"metadata"`
+			Nulls    int               `json:"nulls"`
+			Valid    []bool            `json:"valid"`
+			Bits     []string          `json:"bits"`
+		} `json:"fields"`
+	}
+	if err := json.Unmarshal(out, &got); err != nil {
+		t.Fatal(err)
+	}
+	wantMeta := map[string]string{
+		"format": FormatVersion, "dataset": "harbour-launch", "sequence": "run 3 / ü", "licence": "ours",
+		"source": "constructed\nover two lines", "start": "2024-03-09T17:04:05.123456789Z",
+		"sensors": `[{"name":"imu","rate_hz":285.7142857142857,"samples":1001,"columns":["a","b"]},{"name":"gnss","rate_hz":0.1,"samples":3,"columns":["c"]}]`,
+		"skipped": `{"TYPE_WIFI":3,"other":1}`,
+	}
+	if got.Rows != rec.Len() || !reflect.DeepEqual(got.Metadata, wantMeta) || len(got.Fields) != 1+len(rec.Columns) {
+		t.Fatalf("rows %d, metadata %v, %d fields", got.Rows, got.Metadata, len(got.Fields))
+	}
+	for i, f := range got.Fields {
+		values, col := rec.T, (*Column)(nil)
+		wantFM := map[string]string{"unit": "s"}
+		if i > 0 {
+			col = &rec.Columns[i-1]
+			values = col.Values
+			wantFM = map[string]string{"unit": col.Unit, "frame": col.Frame, "role": col.Role.String()}
+		}
+		if f.Type != "Float64" || f.Nullable != (i > 0) || !reflect.DeepEqual(f.Metadata, wantFM) {
+			t.Errorf("field %s: %s nullable %v metadata %v", f.Name, f.Type, f.Nullable, f.Metadata)
+		}
+		nulls := 0
+		for j, v := range values {
+			valid := col == nil || col.Has(j)
+			if !valid {
+				nulls++
+			}
+			if f.Valid[j] != valid {
+				t.Fatalf("%s row %d: valid %v, want %v", f.Name, j, f.Valid[j], valid)
+			}
+			if want := fmt.Sprintf("%016x", math.Float64bits(v)); f.Bits[j] != want {
+				t.Fatalf("%s row %d: bits %s, want %s", f.Name, j, f.Bits[j], want)
+			}
+		}
+		if f.Nulls != nulls {
+			t.Errorf("%s: %d nulls, want %d", f.Name, f.Nulls, nulls)
+		}
 	}
 }

@@ -38,9 +38,10 @@ time_unit = "s"
 `
 
 // writeIMUCSV writes rows of a 400 Hz IMU log (a survey drone's, made up):
-// time to 4 decimals and nine values in shortest round-trip form, as the
-// BROAD sample prints them.
-func writeIMUCSV(tb testing.TB, path string, rows int) int64 {
+// time to 4 decimals and nine values in shortest round-trip form, of the
+// float64 as the BROAD sample prints them (17 digits or so), or of a
+// float32 as Android loggers print them (about 8).
+func writeIMUCSV(tb testing.TB, path string, rows int, float32s bool) int64 {
 	f, err := os.Create(path)
 	if err != nil {
 		tb.Fatal(err)
@@ -54,7 +55,11 @@ func writeIMUCSV(tb testing.TB, path string, rows int) int64 {
 		buf = strconv.AppendFloat(buf[:0], float64(i)*0.0025, 'f', 4, 64)
 		for _, b := range base {
 			buf = append(buf, ',')
-			buf = strconv.AppendFloat(buf, b+rng.NormFloat64(), 'g', -1, 64)
+			if v := b + rng.NormFloat64(); float32s {
+				buf = strconv.AppendFloat(buf, float64(float32(v)), 'g', -1, 32)
+			} else {
+				buf = strconv.AppendFloat(buf, v, 'g', -1, 64)
+			}
 		}
 		buf = append(buf, '\n')
 		w.Write(buf)
@@ -72,15 +77,21 @@ type countWriter struct{ n int64 }
 func (c *countWriter) Write(p []byte) (int, error) { c.n += int64(len(p)); return len(p), nil }
 
 // BenchmarkLoad1M loads a 1,000,000-row IMU CSV (10 columns) and reads its
-// Arrow file back. Besides MB/s it reports, against the size of the
+// Arrow file back; the sub-benchmarks print the values with the digits of
+// a float64 or of a float32. Besides MB/s it reports, against the size of the
 // recording's Arrow file: alloc/arrow (bytes allocated by one load),
 // live/arrow (heap in use after the load, the recording held) and
 // peak/arrow (the highest heap in use seen during one load, sampled every
 // 2 ms in a run of its own).
 func BenchmarkLoad1M(b *testing.B) {
+	b.Run("digits=float64", func(b *testing.B) { benchLoad1M(b, false) })
+	b.Run("digits=float32", func(b *testing.B) { benchLoad1M(b, true) })
+}
+
+func benchLoad1M(b *testing.B, float32s bool) {
 	const rows = 1_000_000
 	dir := b.TempDir()
-	size := writeIMUCSV(b, filepath.Join(dir, "imu.csv"), rows)
+	size := writeIMUCSV(b, filepath.Join(dir, "imu.csv"), rows, float32s)
 	m := mustMappingTB(b, benchMapping)
 	rec, err := LoadCSV(m, dir)
 	if err != nil {
