@@ -62,7 +62,7 @@ type FileResult struct {
 	Verified bool   // the sum matched the catalogue's
 
 	Reused      bool   // already present (with the right sum when one is known); nothing was downloaded
-	Tries       int    // requests rounds made (0 when reused)
+	Tries       int    // tries made (0 when reused); a try is one request, or two when it restarts from byte zero
 	ResumedFrom int64  // bytes of an earlier partial download that were kept (first resumed request)
 	Restarted   bool   // a partial download was discarded and the file downloaded from byte zero
 	Quarantined string // an earlier copy with the wrong sum was moved here
