@@ -199,14 +199,11 @@ func (c *linCore) predict(k int) error {
 			c.x[i] = wrapAngle(c.x[i])
 		}
 	}
-	// A P = A Pᵀ (P is kept exactly symmetric), then (A P) Aᵀ.
+	// A P = A Pᵀ (P is kept exactly symmetric), then the upper triangle
+	// of (A P) Aᵀ, completed with Q and symmetrized in one pass.
 	abt(c.ap, c.a, c.p, nx, nx, nx, false)
-	abt(c.p, c.ap, c.a, nx, nx, nx, true)
-	for i, q := range c.m.Q {
-		c.p[i] += q
-	}
-	symmetrize(c.p, nx)
-	if !allFinite(c.x) || !allFinite(c.p) {
+	abtUpper(c.p, c.ap, c.a, nx, nx, nx, true)
+	if !finishSym(c.p, c.m.Q, nx) || !allFinite(c.x) {
 		return ErrNonFinite
 	}
 	return nil
@@ -271,10 +268,11 @@ func (c *linCore) gain() bool {
 	nx, nz := c.nx, c.nz
 	abt(c.pct, c.p, c.cj, nx, nx, nz, false)
 	mul(c.s, c.cj, c.pct, nz, nx, nz)
-	for i, r := range c.m.R {
-		c.s[i] += r
+	s, r := c.s[:nz*nz], c.m.R[:nz*nz]
+	for i := range s {
+		s[i] += r[i]
 	}
-	symmetrize(c.s, nz)
+	symmetrize(s, nz)
 	if !c.jit.chol(c.l, c.s, nz) {
 		return false
 	}
@@ -292,21 +290,44 @@ func (c *linCore) gain() bool {
 // than the prediction.)
 func (c *linCore) joseph() {
 	nx, nz := c.nx, c.nz
-	// A = I − K C in ap.
-	mul(c.ap, c.k, c.cj, nx, nz, nx)
-	for i := range c.ap {
-		c.ap[i] = -c.ap[i]
-	}
+	// A = I − K C in ap, in one pass.
+	k, cj, a := c.k[:nx*nz], c.cj[:nz*nx], c.ap[:nx*nx]
 	for i := 0; i < nx; i++ {
-		c.ap[i*nx+i] += 1
+		ki := k[i*nz : i*nz+nz]
+		row := a[i*nx : i*nx+nx]
+		for j := range row {
+			row[j] = 0
+		}
+		// row −= k_il C_l in order: the negated sum −Σ k_il C_lj, exactly.
+		for l, kv := range ki {
+			if kv == 0 {
+				continue
+			}
+			cl := cj[l*nx:][:len(row)]
+			for j, v := range cl {
+				row[j] -= kv * v
+			}
+		}
+		row[i] += 1
 	}
-	abt(c.tmp, c.ap, c.p, nx, nx, nx, false) // A P (P symmetric)
-	abt(c.p, c.tmp, c.ap, nx, nx, nx, true)  // (A P) Aᵀ
-	mul(c.kr, c.k, c.m.R, nx, nz, nz)        // K R
-	abt(c.tmp, c.kr, c.k, nx, nz, nx, true)  // K R Kᵀ
-	for i, v := range c.tmp {
-		c.p[i] += v
+	abt(c.tmp, a, c.p, nx, nx, nx, false) // A P (P symmetric)
+	mul(c.kr, k, c.m.R, nx, nz, nz)       // K R
+	// Upper triangle of (A P) Aᵀ + (K R) Kᵀ, mirrored.
+	p, kr := c.p[:nx*nx], c.kr[:nx*nz]
+	abtUpper(p, c.tmp, a, nx, nx, nx, true)
+	for i := 0; i < nx; i++ {
+		kri := kr[i*nz : i*nz+nz]
+		row := p[i*nx : i*nx+nx]
+		for j := i; j < nx; j++ {
+			kj := k[j*nz : j*nz+len(kri)]
+			var s2 float64
+			for l, v := range kri {
+				s2 += v * kj[l]
+			}
+			row[j] += s2
+		}
 	}
+	mirrorUpper(p, nx)
 }
 
 // addLogLik adds the log-likelihood term −½(nz log 2π + log det S + |L⁻¹ν|²)
@@ -331,7 +352,78 @@ func (c *linCore) addLogLik() {
 // wait on one another; this is where the small filters spend their time.
 // dst must not alias a or b.
 func abt(dst, a, b []float64, m, k, n int, sym bool) {
-	for i := 0; i < m; i++ {
+	abtUpper(dst, a, b, m, k, n, sym)
+	if sym {
+		mirrorUpper(dst, n)
+	}
+}
+
+// mirrorUpper copies the upper triangle of a (n x n) into the lower.
+func mirrorUpper(a []float64, n int) {
+	a = a[:n*n]
+	for i := 0; i < n; i++ {
+		row := a[i*n : i*n+n]
+		for j := i + 1; j < n; j++ {
+			a[j*n+i] = row[j]
+		}
+	}
+}
+
+// abtUpper is abt without the mirroring: with sym only the upper triangle
+// (diagonal included) of dst is written. Rows of a are taken two at a time
+// and columns four at a time, eight independent sums that share their
+// loads; each entry is still the plain dot product summed in order.
+func abtUpper(dst, a, b []float64, m, k, n int, sym bool) {
+	b = b[:n*k]
+	i := 0
+	for ; i+2 <= m; i += 2 {
+		a0 := a[i*k : i*k+k]
+		a1 := a[(i+1)*k:][:len(a0)] // [:len(a0)] lets the compiler drop bounds checks
+		r0 := dst[i*n : i*n+n]
+		r1 := dst[(i+1)*n:][:len(r0)]
+		j := 0
+		if sym { // entry (i, i) alone; both rows then start at i+1
+			bj := b[i*k:][:len(a0)]
+			var s float64
+			for l, av := range a0 {
+				s += av * bj[l]
+			}
+			r0[i] = s
+			j = i + 1
+		}
+		for ; j+4 <= n; j += 4 {
+			b0 := b[j*k:][:len(a0)]
+			b1 := b[(j+1)*k:][:len(a0)]
+			b2 := b[(j+2)*k:][:len(a0)]
+			b3 := b[(j+3)*k:][:len(a0)]
+			var s0, s1, s2, s3, t0, t1, t2, t3 float64
+			for l, av := range a0 {
+				aw := a1[l]
+				x0, x1, x2, x3 := b0[l], b1[l], b2[l], b3[l]
+				s0 += av * x0
+				s1 += av * x1
+				s2 += av * x2
+				s3 += av * x3
+				t0 += aw * x0
+				t1 += aw * x1
+				t2 += aw * x2
+				t3 += aw * x3
+			}
+			r0[j], r0[j+1], r0[j+2], r0[j+3] = s0, s1, s2, s3
+			r1[j], r1[j+1], r1[j+2], r1[j+3] = t0, t1, t2, t3
+		}
+		for ; j < n; j++ {
+			bj := b[j*k:][:len(a0)]
+			var s, t float64
+			for l, av := range a0 {
+				x := bj[l]
+				s += av * x
+				t += a1[l] * x
+			}
+			r0[j], r1[j] = s, t
+		}
+	}
+	for ; i < m; i++ {
 		ai := a[i*k : i*k+k]
 		row := dst[i*n : i*n+n]
 		j := 0
@@ -339,7 +431,7 @@ func abt(dst, a, b []float64, m, k, n int, sym bool) {
 			j = i
 		}
 		for ; j+4 <= n; j += 4 {
-			b0 := b[j*k:][:len(ai)] // [:len(ai)] lets the compiler drop bounds checks
+			b0 := b[j*k:][:len(ai)]
 			b1 := b[(j+1)*k:][:len(ai)]
 			b2 := b[(j+2)*k:][:len(ai)]
 			b3 := b[(j+3)*k:][:len(ai)]
@@ -352,16 +444,6 @@ func abt(dst, a, b []float64, m, k, n int, sym bool) {
 			}
 			row[j], row[j+1], row[j+2], row[j+3] = s0, s1, s2, s3
 		}
-		for ; j+2 <= n; j += 2 {
-			b0 := b[j*k:][:len(ai)] // [:len(ai)] lets the compiler drop bounds checks
-			b1 := b[(j+1)*k:][:len(ai)]
-			var s0, s1 float64
-			for l, av := range ai {
-				s0 += av * b0[l]
-				s1 += av * b1[l]
-			}
-			row[j], row[j+1] = s0, s1
-		}
 		for ; j < n; j++ {
 			bj := b[j*k:][:len(ai)]
 			var s float64
@@ -369,13 +451,6 @@ func abt(dst, a, b []float64, m, k, n int, sym bool) {
 				s += av * bj[l]
 			}
 			row[j] = s
-		}
-	}
-	if sym {
-		for i := 0; i < n; i++ {
-			for j := i + 1; j < n; j++ {
-				dst[j*n+i] = dst[i*n+j]
-			}
 		}
 	}
 }

@@ -70,23 +70,27 @@ func symmetrize(a []float64, n int) {
 // (n x n) into l (upper triangle zeroed). l may alias a. It reports false
 // if a is not positive definite (or has non-finite entries).
 func cholesky(l, a []float64, n int) bool {
+	l, a = l[:n*n], a[:n*n]
 	for j := 0; j < n; j++ {
+		lj := l[j*n : j*n+j+1] // row j up to the diagonal
 		s := a[j*n+j]
-		for k := 0; k < j; k++ {
-			s -= l[j*n+k] * l[j*n+k]
+		for _, v := range lj[:j] {
+			s -= v * v
 		}
 		if !(s > 0) || math.IsInf(s, 0) {
 			return false
 		}
 		d := math.Sqrt(s)
-		l[j*n+j] = d
+		lj[j] = d
 		inv := 1 / d
+		ljk := lj[:j]
 		for i := j + 1; i < n; i++ {
+			li := l[i*n : i*n+j+1]
 			t := a[i*n+j]
-			for k := 0; k < j; k++ {
-				t -= l[i*n+k] * l[j*n+k]
+			for k, v := range li[:len(ljk)] {
+				t -= v * ljk[k]
 			}
-			l[i*n+j] = t * inv
+			li[j] = t * inv
 		}
 		for i := 0; i < j; i++ {
 			l[i*n+j] = 0
@@ -97,17 +101,20 @@ func cholesky(l, a []float64, n int) bool {
 
 // forwardSolve solves L y = b in place (b becomes y); L is n x n lower.
 func forwardSolve(l, b []float64, n int) {
+	b = b[:n]
 	for i := 0; i < n; i++ {
+		li := l[i*n : i*n+i+1]
 		s := b[i]
-		for k := 0; k < i; k++ {
-			s -= l[i*n+k] * b[k]
+		for k, v := range li[:i] {
+			s -= v * b[k]
 		}
-		b[i] = s / l[i*n+i]
+		b[i] = s / li[i]
 	}
 }
 
 // backSolveT solves Lᵀ x = y in place (y becomes x); L is n x n lower.
 func backSolveT(l, y []float64, n int) {
+	l, y = l[:n*n], y[:n]
 	for i := n - 1; i >= 0; i-- {
 		s := y[i]
 		for k := i + 1; k < n; k++ {
@@ -121,6 +128,18 @@ func backSolveT(l, y []float64, n int) {
 // B and X (m x n), in place in b. Used for the gain K = Pxz S⁻¹.
 func cholSolveRowsT(l, b []float64, m, n int) {
 	// X S = B  <=>  S Xᵀ = Bᵀ, solved row by row of B.
+	if n == 2 { // the same operations as the loops below, unrolled
+		l = l[:4]
+		l00, l10, l11 := l[0], l[2], l[3]
+		b = b[:2*m]
+		for r := 0; r+2 <= len(b); r += 2 {
+			y0 := b[r] / l00
+			y1 := (b[r+1] - l10*y0) / l11
+			x1 := y1 / l11
+			b[r], b[r+1] = (y0-l10*x1)/l00, x1
+		}
+		return
+	}
 	for r := 0; r < m; r++ {
 		row := b[r*n : r*n+n]
 		forwardSolve(l, row, n)
@@ -143,11 +162,49 @@ func wrapAngle(a float64) float64 {
 // allFinite reports whether every value is finite.
 func allFinite(v []float64) bool {
 	for _, x := range v {
-		if math.IsNaN(x) || math.IsInf(x, 0) {
+		if x-x != 0 { // NaN for ±Inf and NaN, 0 for every finite x
 			return false
 		}
 	}
 	return true
+}
+
+// finishSym completes dst (n x n), whose upper triangle (diagonal
+// included) holds a symmetric product u, as (u + q) symmetrized: the
+// diagonal gets u + q_ii and the entries off it
+// ½((u + q_ij) + (u + q_ji)), mirrored, the same as mirroring u, adding q
+// and calling symmetrize. q may be nil (nothing added). It reports whether
+// every entry is finite.
+func finishSym(dst, q []float64, n int) bool {
+	dst = dst[:n*n]
+	var chk float64
+	if q == nil {
+		for i := 0; i < n; i++ {
+			row := dst[i*n : i*n+n]
+			chk += row[i] * 0
+			for j := i + 1; j < n; j++ {
+				v := row[j]
+				chk += v * 0
+				dst[j*n+i] = v
+			}
+		}
+		return chk == 0
+	}
+	q = q[:n*n]
+	for i := 0; i < n; i++ {
+		row := dst[i*n : i*n+n]
+		qi := q[i*n : i*n+n]
+		row[i] += qi[i]
+		chk += row[i] * 0
+		for j := i + 1; j < n; j++ {
+			u := row[j]
+			v := 0.5 * ((u + qi[j]) + (u + q[j*n+i]))
+			chk += v * 0
+			row[j] = v
+			dst[j*n+i] = v
+		}
+	}
+	return chk == 0 // x*0 is NaN for ±Inf and NaN, which then stays
 }
 
 // identity sets a (n x n) to the identity.

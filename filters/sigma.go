@@ -260,6 +260,7 @@ func (s *sigmaSet) devTo(dxT, la []float64) {
 // zero (the noise part of an augmented state).
 func (s *sigmaSet) pointsTo(pts, x, dxT []float64) {
 	n, np := s.n, s.np
+	pts = pts[:np*n]
 	for r := 0; r < n; r++ {
 		m := 0.0
 		if r < len(x) {
@@ -317,15 +318,17 @@ func (s *sigmaSet) mean(dst, y []float64, m int, angles []int) {
 // (m x np): row j of dt holds component j of every deviation.
 func (s *sigmaSet) deviate(dt, y, mean []float64, m int, angles []int) {
 	np := s.np
-	for i := 0; i < np; i++ {
-		row := y[i*m : i*m+m]
-		for j, v := range row {
-			dt[j*np+i] = v - mean[j]
+	y, mean = y[:np*m], mean[:m]
+	for j, mj := range mean {
+		row := dt[j*np : j*np+np]
+		for i := range row {
+			row[i] = y[i*m+j] - mj
 		}
 	}
 	for _, j := range angles {
-		for i := 0; i < np; i++ {
-			dt[j*np+i] = wrapAngle(dt[j*np+i])
+		row := dt[j*np : j*np+np]
+		for i, v := range row {
+			row[i] = wrapAngle(v)
 		}
 	}
 }
@@ -347,6 +350,46 @@ func (s *sigmaSet) cov(dst, dt []float64, m int) {
 	}
 	wk := s.weigh(dt, m)
 	abt(dst, dt, wk, m, np, m, true)
+}
+
+// covAdd sets dst (m x m) to cov(dt) + q, symmetrized, as cov, adding q (if
+// not nil) and symmetrize would, in one pass over the upper triangle. It
+// reports whether every entry is finite.
+func (s *sigmaSet) covAdd(dst, dt, q []float64, m int) bool {
+	np := s.np
+	if !s.uniform {
+		abtUpper(dst, dt, s.weigh(dt, m), m, np, m, true)
+		return finishSym(dst, q, m)
+	}
+	dst = dst[:m*m]
+	abtUpper(dst, dt, dt, m, np, m, true)
+	wu, c0 := s.wu, s.wc[0]-s.wu
+	var chk float64
+	for a := 0; a < m; a++ {
+		d0a := dt[a*np]
+		da := c0 * d0a
+		row := dst[a*m : a*m+m]
+		v := wu*row[a] + da*d0a
+		if q != nil {
+			v += q[a*m+a]
+		}
+		row[a] = v
+		chk += v * 0
+		for b := a + 1; b < m; b++ {
+			d0b := dt[b*np]
+			u := wu * row[b]
+			xab, xba := u+da*d0b, u+(c0*d0b)*d0a
+			if q != nil {
+				xab += q[a*m+b]
+				xba += q[b*m+a]
+			}
+			v := 0.5 * (xab + xba)
+			chk += v * 0
+			row[b] = v
+			dst[b*m+a] = v
+		}
+	}
+	return chk == 0 // x*0 is NaN for ±Inf and NaN, which then stays
 }
 
 // cross sets dst (nx x m) = Σᵢ Wcᵢ dxᵢ dzᵢᵀ for transposed deviations dxT

@@ -181,14 +181,11 @@ func (c *spCore) predict(k int) error {
 	}
 	s.mean(c.x, c.ys, nx, m.AngleState)
 	s.deviate(c.dt, c.ys, c.x, nx, m.AngleState)
-	s.cov(c.p, c.dt, nx)
-	if !c.augW {
-		for i, q := range m.Q {
-			c.p[i] += q
-		}
+	q := m.Q
+	if c.augW {
+		q = nil
 	}
-	symmetrize(c.p, nx)
-	if !allFinite(c.x) || !allFinite(c.p) {
+	if !s.covAdd(c.p, c.dt, q, nx) || !allFinite(c.x) {
 		return ErrNonFinite
 	}
 	return nil
@@ -232,13 +229,11 @@ func (c *spCore) update(z []float64, k int) error {
 	}
 	s.mean(c.zhat, c.zs, nz, m.AngleMeas)
 	s.deviate(c.dt, c.zs, c.zhat, nz, m.AngleMeas)
-	s.cov(c.s, c.dt, nz)
-	if !c.augV {
-		for i, r := range m.R {
-			c.s[i] += r
-		}
+	r := m.R
+	if c.augV {
+		r = nil
 	}
-	symmetrize(c.s, nz)
+	s.covAdd(c.s, c.dt, r, nz) // a non-finite S fails the factorization
 	if !c.jit.chol(c.ls, c.s, nz) {
 		return ErrNotPosDef
 	}
@@ -279,16 +274,13 @@ func (c *spCore) update(z []float64, k int) error {
 			}
 		}
 	}
-	s.cov(c.p, c.e, nx)
+	var krk []float64 // K R Kᵀ, exactly symmetric
 	if !c.augV {
 		mul(c.kr, c.k, m.R, nx, nz, nz)
 		abt(c.krk, c.kr, c.k, nx, nz, nx, true)
-		for i, v := range c.krk {
-			c.p[i] += v
-		}
+		krk = c.krk
 	}
-	symmetrize(c.p, nx)
-	if !allFinite(c.x) || !allFinite(c.p) {
+	if !s.covAdd(c.p, c.e, krk, nx) || !allFinite(c.x) {
 		return ErrNonFinite
 	}
 	c.hasInnov = true
