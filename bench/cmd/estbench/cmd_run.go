@@ -11,7 +11,7 @@ import (
 	"time"
 
 	"github.com/estbench/estbench/bench"
-	"github.com/estbench/estbench/metrics"
+	"github.com/estbench/estbench/bench/cli"
 	"github.com/estbench/estbench/results"
 )
 
@@ -113,70 +113,17 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "estbench run: %v\n", err)
 		return exitFailed
 	}
-	rw, err := results.NewRunsWriter(filepath.Join(dir, "runs.parquet"))
-	if err != nil {
-		fmt.Fprintf(stderr, "estbench run: %v\n", err)
-		return exitFailed
-	}
-	var writeErr error
 	prog := newProgress(stderr, len(s.Problems)*s.Runs)
-	out, err := bench.Run(s, bench.Options{
-		Workers:  *workers,
-		Progress: prog.set,
-		OnRun: func(p *bench.Pair, st metrics.RunStat) {
-			if writeErr == nil {
-				writeErr = rw.Write(results.RunRow{Problem: p.Problem, Filter: p.Filter, Config: p.Config, RunStat: st})
-			}
-		},
-	})
+	res, err := cli.WriteRun(s, dir, cli.RunOptions{Workers: *workers, Progress: prog.set, Command: os.Args})
 	prog.finish()
-	if err == nil {
-		err = writeErr
-	}
 	if err != nil {
-		rw.Abort()
 		fmt.Fprintf(stderr, "estbench run: %v\n", err)
 		if errors.As(err, new(*bench.SuiteError)) {
 			return exitUsage
 		}
 		return exitFailed
 	}
-	if err := rw.Close(); err != nil {
-		fmt.Fprintf(stderr, "estbench run: %v\n", err)
-		return exitFailed
-	}
-
-	rows := summaryRows(out)
-	man := results.CollectEnvironment()
-	man.Suite = s.Name
-	man.SuiteSHA256 = s.Hash()
-	man.Seed = s.Seed
-	man.Runs = s.Runs
-	man.Workers = *workers
-	man.Command = os.Args
-	man.Start, man.End = out.Start, out.End
-	prov := results.Provenance{Suite: s.Name, SuiteSHA256: man.SuiteSHA256, Seed: s.Seed, Runs: s.Runs, Tool: "estbench " + man.Version, Date: out.End}
-	files := []struct {
-		name  string
-		write func(path string) error
-	}{
-		{"summary.parquet", func(p string) error { return results.WriteSummaryParquet(p, rows) }},
-		{"curves.parquet", func(p string) error { return writeCurves(p, out) }},
-		{"summary.md", func(p string) error { return results.WriteSummaryMD(p, rows, prov) }},
-	}
-	man.Files = []string{"runs.parquet"}
-	for _, f := range files {
-		if err := f.write(filepath.Join(dir, f.name)); err != nil {
-			fmt.Fprintf(stderr, "estbench run: %s: %v\n", f.name, err)
-			return exitFailed
-		}
-		man.Files = append(man.Files, f.name)
-	}
-	man.Files = append(man.Files, "manifest.json")
-	if err := results.WriteManifest(filepath.Join(dir, "manifest.json"), man); err != nil {
-		fmt.Fprintf(stderr, "estbench run: manifest.json: %v\n", err)
-		return exitFailed
-	}
+	rows, prov := res.Rows, res.Provenance
 	if err := results.WriteSummary(stdout, *format, rows, prov); err != nil {
 		fmt.Fprintf(stderr, "estbench run: %v\n", err)
 		return exitFailed
@@ -185,30 +132,8 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	return exitOK
 }
 
-func summaryRows(out *bench.Outcome) []results.SummaryRow {
-	rows := make([]results.SummaryRow, len(out.Pairs))
-	for i, p := range out.Pairs {
-		rows[i] = results.SummaryRow{Problem: p.Problem, Filter: p.Filter, Config: p.Config,
-			Applicable: p.Applicable, Note: p.Note, Summary: p.Summary, AllocsPerStep: p.AllocsPerStep, EvalsPerStep: p.EvalsPerStep}
-	}
-	return rows
-}
-
-func writeCurves(path string, out *bench.Outcome) error {
-	cw, err := results.NewCurvesWriter(path)
-	if err != nil {
-		return err
-	}
-	for _, p := range out.Pairs {
-		for _, c := range p.Curves {
-			if err := cw.Write(results.CurveRow{Problem: p.Problem, Filter: p.Filter, Config: p.Config, CurvePoint: c}); err != nil {
-				cw.Abort()
-				return err
-			}
-		}
-	}
-	return cw.Close()
-}
+// summaryRows turns an outcome into summary rows (cli.SummaryRows).
+func summaryRows(out *bench.Outcome) []results.SummaryRow { return cli.SummaryRows(out) }
 
 func validFormat(f string) bool {
 	for _, v := range results.Formats {

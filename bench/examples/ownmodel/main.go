@@ -1,23 +1,29 @@
 // Command ownmodel benchmarks a model of one's own with estbench, in one's
 // own binary: it adds the survey drone of drone.go to the built-in
 // catalogue, reads a suite that may name it (drone.toml when -suite is not
-// given), runs it and prints the summary table.
+// given), runs it into a result folder like estbench run's (so estbench
+// report and estbench compare read it) and prints the summary table.
 //
 //	go run ./bench/examples/ownmodel -runs 20
-//	go run ./bench/examples/ownmodel -suite my.toml -format markdown
+//	go run ./bench/examples/ownmodel -suite my.toml -out results/drone -format markdown
 //
 // The recipe is in DEVELOPERS.md, "How to benchmark a model of your own".
 package main
 
 import (
 	_ "embed"
+	"errors"
 	"flag"
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
+	"slices"
 	"strings"
+	"time"
 
 	"github.com/estbench/estbench/bench"
+	"github.com/estbench/estbench/bench/cli"
 	"github.com/estbench/estbench/results"
 )
 
@@ -44,14 +50,16 @@ func run(args []string, stdout, stderr io.Writer) int {
 	runs := fs.Int("runs", 0, "Monte Carlo runs `N`, overriding the suite's")
 	workers := fs.Int("workers", 0, "runs computed in parallel (0: one per CPU); never changes results")
 	format := fs.String("format", "table", "summary format: "+strings.Join(results.Formats, ", "))
+	outDir := fs.String("out", "", "result `DIR` (default ownmodel-out/<UTC timestamp>)")
 	if err := fs.Parse(args); err != nil {
 		if err == flag.ErrHelp {
 			return exitOK
 		}
 		return exitUsage
 	}
-	if *runs < 0 || *workers < 0 || fs.NArg() > 0 {
-		fmt.Fprintln(stderr, "ownmodel: --runs and --workers must not be negative, and no arguments are taken")
+	if *runs < 0 || *workers < 0 || fs.NArg() > 0 || !slices.Contains(results.Formats, *format) {
+		fmt.Fprintf(stderr, "ownmodel: --runs and --workers must not be negative, --format is one of %s, and no arguments are taken\n",
+			strings.Join(results.Formats, ", "))
 		return exitUsage
 	}
 
@@ -77,20 +85,27 @@ func run(args []string, stdout, stderr io.Writer) int {
 		s.Runs = *runs
 	}
 
-	out, err := bench.Run(s, bench.Options{Workers: *workers})
-	if err != nil {
+	// Run it into a result folder, as estbench run does.
+	dir := *outDir
+	if dir == "" {
+		dir = filepath.Join("ownmodel-out", time.Now().UTC().Format("20060102T150405Z"))
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
 		fmt.Fprintf(stderr, "ownmodel: %v\n", err)
 		return exitFailed
 	}
-	rows := make([]results.SummaryRow, len(out.Pairs))
-	for i, p := range out.Pairs {
-		rows[i] = results.SummaryRow{Problem: p.Problem, Filter: p.Filter, Config: p.Config, Applicable: p.Applicable,
-			Note: p.Note, Summary: p.Summary, AllocsPerStep: p.AllocsPerStep, EvalsPerStep: p.EvalsPerStep}
+	res, err := cli.WriteRun(s, dir, cli.RunOptions{Workers: *workers, Command: os.Args, Tool: "ownmodel"})
+	if err != nil {
+		fmt.Fprintf(stderr, "ownmodel: %v\n", err)
+		if errors.As(err, new(*bench.SuiteError)) {
+			return exitUsage
+		}
+		return exitFailed
 	}
-	prov := results.Provenance{Suite: s.Name, SuiteSHA256: s.Hash(), Seed: s.Seed, Runs: s.Runs, Tool: "ownmodel", Date: out.End}
-	if err := results.WriteSummary(stdout, *format, rows, prov); err != nil {
+	if err := results.WriteSummary(stdout, *format, res.Rows, res.Provenance); err != nil {
 		fmt.Fprintf(stderr, "ownmodel: %v\n", err)
 		return exitUsage
 	}
+	fmt.Fprintf(stderr, "ownmodel: results in %s\n", dir)
 	return exitOK
 }

@@ -94,9 +94,19 @@ func runMain(t *testing.T, args ...string) (int, string, string) {
 // 12 Pa / 11.9 Pa/m ≈ 1 m for the default barometer, 3.4 m for the noisy
 // one (from the Jacobian of the standard atmosphere near 120 m).
 func TestRunEmbeddedSuite(t *testing.T) {
-	code, out, errOut := runMain(t, "-runs", "4", "-workers", "2", "-format", "csv")
+	dir := t.TempDir()
+	code, out, errOut := runMain(t, "-runs", "4", "-workers", "2", "-format", "csv", "-out", dir)
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	// The result folder reads back as estbench's do (estbench compare and
+	// report use this reader).
+	d, err := results.ReadResultDir(dir)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if d.Manifest.Tool != "ownmodel" || d.Manifest.Suite != "survey-drone-baro" || len(d.Summary) != 6 || len(d.Runs) != 6*4 {
+		t.Errorf("result folder: manifest %+v, %d summary rows, %d runs rows", d.Manifest, len(d.Summary), len(d.Runs))
 	}
 	recs, err := csv.NewReader(strings.NewReader(out)).ReadAll()
 	if err != nil {
@@ -134,9 +144,12 @@ func TestRunOwnSuite(t *testing.T) {
 	if err := os.WriteFile(bad, []byte("name = \"x\"\n[[problem]]\nuse = \"drone-bar\"\n[[filter]]\nuse = \"ekf\"\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	code, out, errOut := runMain(t, "-suite", bad)
+	code, out, errOut := runMain(t, "-suite", bad, "-out", filepath.Join(dir, "out-bad"))
 	if code != exitUsage || out != "" || !strings.Contains(errOut, bad+`:3: problem: unknown problem "drone-bar" (did you mean "drone-baro"?)`) {
 		t.Fatalf("exit %d, stdout %q, stderr %q", code, out, errOut)
+	}
+	if _, err := os.Stat(filepath.Join(dir, "out-bad")); !os.IsNotExist(err) {
+		t.Error("result folder created for a bad suite")
 	}
 	good := filepath.Join(dir, "good.toml")
 	err := os.WriteFile(good, []byte(`name = "drone-and-expr"
@@ -164,7 +177,7 @@ use = "ekf"
 	if err != nil {
 		t.Fatal(err)
 	}
-	code, out, errOut = runMain(t, "-suite", good, "-format", "csv")
+	code, out, errOut = runMain(t, "-suite", good, "-format", "csv", "-out", filepath.Join(dir, "out-good"))
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errOut)
 	}
