@@ -287,6 +287,14 @@ func Decode(name string, data []byte) (rec *Recording, err error) {
 	if len(data) == 0 {
 		return nil, bad("empty file")
 	}
+	// arrow-go panics on some internally corrupt files (found by fuzzing).
+	// A damaged input file is bad input, not a bug: report it as an error
+	// naming the file instead of crashing the command.
+	defer func() {
+		if v := recover(); v != nil {
+			rec, err = nil, bad("corrupt Arrow IPC file: %v", v)
+		}
+	}()
 	fr, err := ipc.NewMappedFileReader(data)
 	if err != nil {
 		return nil, bad("not an Arrow IPC file: %v", err)

@@ -322,3 +322,28 @@ func TestArrowIndependentReader(t *testing.T) {
 		}
 	}
 }
+
+// FuzzDecode: a damaged .arrow file is bad input. Decode must return an
+// error naming the file, never panic, whatever bytes it is given.
+func FuzzDecode(f *testing.F) {
+	var good bytes.Buffer
+	if err := Encode(&good, oddRecording()); err != nil {
+		f.Fatal(err)
+	}
+	f.Add(good.Bytes())
+	b := good.Bytes()
+	for _, at := range []int{8, 64, len(b) / 2, len(b) - 20} {
+		bad := append([]byte(nil), b...)
+		bad[at] ^= 0xff
+		f.Add(bad)
+	}
+	f.Fuzz(func(t *testing.T, data []byte) {
+		rec, err := Decode("damaged.arrow", data)
+		if err == nil && rec == nil {
+			t.Fatal("nil recording without an error")
+		}
+		if err != nil && !strings.Contains(err.Error(), "damaged.arrow") {
+			t.Fatalf("error does not name the file: %v", err)
+		}
+	})
+}

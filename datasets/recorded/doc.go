@@ -36,10 +36,10 @@
 // skip a bad row and go on; when rows were skipped they return the recording
 // of the good rows together with an ErrorList in file order (after 50 row
 // errors a loader stops reading and says so in one more entry). Callers
-// that must not use partial data treat any error as failure. Decode trusts
-// the structure of the Arrow file: it checks the schema and metadata of a
-// recording, but a file damaged inside its flatbuffers can make arrow-go
-// panic.
+// that must not use partial data treat any error as failure. Decode checks
+// the schema and metadata of a recording; a file damaged inside its
+// flatbuffers, on which arrow-go panics, is reported as a corrupt-file
+// error naming the file.
 //
 // # Memory
 //
