@@ -22,14 +22,15 @@ const (
 const usage = `estbench: benchmark state estimators over Monte Carlo runs
 
 Usage:
-  estbench run [flags]     run a suite (the built-in default suite without --suite)
-  estbench compare B N     compare result folder N with base folder B row by row; exit 1 when a row is worse
-  estbench budget DIR      choose the most accurate configuration within a cost per step
-  estbench list            list every problem and filter with parameters, defaults, traits and source
-  estbench data import|show  convert recorded sensor data to .arrow files; show one
-  estbench report DIR      write an HTML report with plots (or a LaTeX/Markdown table) of a result folder
-  estbench version         print the version
-  estbench help [command]  show help
+  estbench run [flags]        run a suite (the built-in default suite without --suite)
+  estbench compare B N        compare result folder N with base folder B row by row; exit 1 when a row is worse
+  estbench budget DIR         choose the most accurate configuration within a cost per step
+  estbench report DIR         write an HTML report with plots (or a LaTeX/Markdown table) of a result folder
+  estbench list               list every problem and filter with parameters, defaults, traits and source
+  estbench data import|show   convert recorded sensor data to .arrow files; show one
+  estbench data list|fetch    the catalogue of public datasets; download one, checksummed
+  estbench version            print the version
+  estbench help [command]     show help
 
 Run 'estbench <command> -h' for the flags of a command.
 `
