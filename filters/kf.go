@@ -267,7 +267,7 @@ func (c *linCore) update(z []float64, k int) error {
 func (c *linCore) gain() bool {
 	nx, nz := c.nx, c.nz
 	abt(c.pct, c.p, c.cj, nx, nx, nz, false)
-	mul(c.s, c.cj, c.pct, nz, nx, nz)
+	mulDot(c.s, c.cj, c.pct, nz, nx, nz)
 	s, r := c.s[:nz*nz], c.m.R[:nz*nz]
 	for i := range s {
 		s[i] += r[i]
@@ -296,22 +296,16 @@ func (c *linCore) joseph() {
 		ki := k[i*nz : i*nz+nz]
 		row := a[i*nx : i*nx+nx]
 		for j := range row {
-			row[j] = 0
-		}
-		// row −= k_il C_l in order: the negated sum −Σ k_il C_lj, exactly.
-		for l, kv := range ki {
-			if kv == 0 {
-				continue
+			var s float64 // in a register: a sum through memory waits on every store
+			for l, kv := range ki {
+				s += kv * cj[l*nx+j]
 			}
-			cl := cj[l*nx:][:len(row)]
-			for j, v := range cl {
-				row[j] -= kv * v
-			}
+			row[j] = -s
 		}
 		row[i] += 1
 	}
 	abt(c.tmp, a, c.p, nx, nx, nx, false) // A P (P symmetric)
-	mul(c.kr, k, c.m.R, nx, nz, nz)       // K R
+	mulDot(c.kr, k, c.m.R, nx, nz, nz)    // K R
 	// Upper triangle of (A P) Aᵀ + (K R) Kᵀ, mirrored.
 	p, kr := c.p[:nx*nx], c.kr[:nx*nz]
 	abtUpper(p, c.tmp, a, nx, nx, nx, true)

@@ -28,6 +28,25 @@ func mul(dst, a, b []float64, m, k, n int) {
 	}
 }
 
+// mulDot sets dst (m x n) = a (m x k) * b (k x n) as mul does, each entry
+// summed in a register in the same order (zero entries of a are not
+// skipped, which changes nothing for finite b): for the small products of
+// the filter steps, where mul's sums through memory wait on every store.
+func mulDot(dst, a, b []float64, m, k, n int) {
+	b = b[:k*n]
+	for i := 0; i < m; i++ {
+		ai := a[i*k : i*k+k]
+		row := dst[i*n : i*n+n]
+		for j := range row {
+			var s float64
+			for l, av := range ai {
+				s += av * b[l*n+j]
+			}
+			row[j] = s
+		}
+	}
+}
+
 // mulABt sets dst (m x n) = a (m x k) * bᵀ, where b is n x k.
 func mulABt(dst, a, b []float64, m, k, n int) {
 	for i := 0; i < m; i++ {

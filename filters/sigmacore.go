@@ -262,21 +262,21 @@ func (c *spCore) update(z []float64, k int) error {
 
 	// Joseph form for sigma points: P = Σ Wcᵢ eᵢ eᵢᵀ + K R Kᵀ with
 	// eᵢ = dxᵢ − K dzᵢ (K R Kᵀ is inside the sum when v is augmented).
+	dt := c.dt[:nz*np]
 	for r := 0; r < nx; r++ {
 		kr := c.k[r*nz : r*nz+nz]
 		dx := c.dxT[r*np : r*np+np]
-		er := c.e[r*np : r*np+np]
-		copy(er, dx)
-		for j, kv := range kr {
-			dz := c.dt[j*np : j*np+np]
-			for i, v := range dz {
-				er[i] -= kv * v
+		er := c.e[r*np : r*np+np][:len(dx)]
+		for i, v := range dx {
+			for j, kv := range kr { // (dx − k₀ dz₀) − k₁ dz₁ ..., in a register
+				v -= kv * dt[j*np+i]
 			}
+			er[i] = v
 		}
 	}
 	var krk []float64 // K R Kᵀ, exactly symmetric
 	if !c.augV {
-		mul(c.kr, c.k, m.R, nx, nz, nz)
+		mulDot(c.kr, c.k, m.R, nx, nz, nz)
 		abt(c.krk, c.kr, c.k, nx, nz, nx, true)
 		krk = c.krk
 	}
