@@ -28,14 +28,15 @@ import (
 // (cos(k) with k an int gives "interface conversion: interface {} is int,
 // not float64" in v1.17.8).
 // Its virtual machine boxes every intermediate float64 in an interface
-// value, so it allocates on every evaluation (7 to 11 allocations and
-// 0.5-2 µs for the ungm transition, measured with vm.VM reused and a
-// reused environment map; BenchmarkExprEval/engine=vm). A filter step must
+// value, so it allocates on every evaluation: 11 allocations and about
+// 0.8-1.6 µs for the ungm transition with vm.VM and the environment map
+// reused (BenchmarkExprEval/engine=vm, on a shared 2-core machine), where
+// the Go code of datasets.NewUNGM takes about 25-30 ns. A filter step must
 // not allocate, so the checked syntax tree is lowered once per Build into a
 // tree of Go closures over float64 that evaluates the same operations in
-// the same order, calling the same Go functions, without allocating
-// (BenchmarkExprEval/engine=closures). TestExprLoweredEqualsVM checks the
-// two agree bit for bit.
+// the same order, calling the same Go functions, without allocating (about
+// 60 ns; BenchmarkExprEval/engine=closures). TestExprLoweredEqualsVM checks
+// the two agree bit for bit.
 
 // exprFuncNames are the functions expressions may call, in the order the
 // README lists them. mod is also the operator % on numbers.
@@ -1011,7 +1012,25 @@ func (e *exprFunction) eval(dst, x []float64, k int) {
 	for i, f := range e.fns {
 		dst[i] = f(v)
 	}
-	v.x = nil
+}
+
+// evalMany applies eval to the states stored one after another in x
+// (Model.FMany, Model.HMany): nx values each, writing len(fns) values per
+// state into dst. It saves a call through the model per particle.
+func (e *exprFunction) evalMany(nx int) func(dst, x []float64, k int) {
+	return func(dst, x []float64, k int) {
+		v := e.vars
+		v.k = float64(k)
+		v.t = float64(k) * e.dt
+		nf := len(e.fns)
+		for i, j := 0, 0; i+nx <= len(x); i, j = i+nx, j+nf {
+			v.x = x[i : i+nx]
+			out := dst[j : j+nf]
+			for c, f := range e.fns {
+				out[c] = f(v)
+			}
+		}
+	}
 }
 
 // lowerFunction lowers the checked programs of one function with the given
@@ -1118,6 +1137,8 @@ func (m *exprModel) build(v Values) (*datasets.Problem, error) {
 			Nx: nx, Nz: nz,
 			F:      f.eval,
 			H:      h.eval,
+			FMany:  f.evalMany(nx),
+			HMany:  h.evalMany(nx),
 			Q:      append([]float64(nil), m.q...),
 			R:      append([]float64(nil), m.r...),
 			Linear: linF && linH,
