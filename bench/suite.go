@@ -98,7 +98,9 @@ func (e *SuiteError) Error() string {
 //	particles = [250, 1000]  # a list sweeps: one configuration per value
 //
 // Problems sweep the same way as filters; a parameter left out takes its
-// default. Int parameters take TOML integers only (500.0 is refused), Float
+// default. A [[problem]] table with model = "expr" instead of use defines a
+// model by expressions (exprProblem in suite_expr.go; README, "Models
+// defined in the suite file"); it does not sweep. Int parameters take TOML integers only (500.0 is refused), Float
 // parameters integers or finite floats (-0 reads as 0), String parameters
 // strings. The same configuration twice is refused, naming both lines.
 //
