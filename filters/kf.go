@@ -369,6 +369,22 @@ func mirrorUpper(a []float64, n int) {
 // loads; each entry is still the plain dot product summed in order.
 func abtUpper(dst, a, b []float64, m, k, n int, sym bool) {
 	b = b[:n*k]
+	if k == 2 { // (K R) Kᵀ and the like: no inner loop
+		a = a[:m*2]
+		for i := 0; i < m; i++ {
+			a0, a1 := a[2*i], a[2*i+1]
+			row := dst[i*n : i*n+n]
+			j := 0
+			if sym {
+				j = i
+			}
+			for ; j < len(row); j++ {
+				bj := b[2*j:][:2]
+				row[j] = a0*bj[0] + a1*bj[1]
+			}
+		}
+		return
+	}
 	i := 0
 	for ; i+2 <= m; i += 2 {
 		a0 := a[i*k : i*k+k]

@@ -263,7 +263,16 @@ func (c *spCore) update(z []float64, k int) error {
 	// Joseph form for sigma points: P = Σ Wcᵢ eᵢ eᵢᵀ + K R Kᵀ with
 	// eᵢ = dxᵢ − K dzᵢ (K R Kᵀ is inside the sum when v is augmented).
 	dt := c.dt[:nz*np]
-	for r := 0; r < nx; r++ {
+	for r := 0; nz == 2 && r < nx; r++ { // the same sums, unrolled
+		k0, k1 := c.k[r*2], c.k[r*2+1]
+		dx := c.dxT[r*np : r*np+np]
+		er := c.e[r*np : r*np+np][:len(dx)]
+		dz0, dz1 := dt[:len(dx)], dt[np:][:len(dx)]
+		for i, v := range dx {
+			er[i] = (v - k0*dz0[i]) - k1*dz1[i]
+		}
+	}
+	for r := 0; nz != 2 && r < nx; r++ {
 		kr := c.k[r*nz : r*nz+nz]
 		dx := c.dxT[r*np : r*np+np]
 		er := c.e[r*np : r*np+np][:len(dx)]
