@@ -292,7 +292,16 @@ func (c *linCore) joseph() {
 	nx, nz := c.nx, c.nz
 	// A = I − K C in ap, in one pass.
 	k, cj, a := c.k[:nx*nz], c.cj[:nz*nx], c.ap[:nx*nx]
-	for i := 0; i < nx; i++ {
+	for i := 0; nz == 2 && i < nx; i++ { // the same sums, unrolled
+		k0, k1 := k[2*i], k[2*i+1]
+		row := a[i*nx : i*nx+nx]
+		c0, c1 := cj[:len(row)], cj[nx:][:len(row)]
+		for j := range row {
+			row[j] = -(k0*c0[j] + k1*c1[j])
+		}
+		row[i] += 1
+	}
+	for i := 0; nz != 2 && i < nx; i++ {
 		ki := k[i*nz : i*nz+nz]
 		row := a[i*nx : i*nx+nx]
 		for j := range row {
@@ -309,7 +318,15 @@ func (c *linCore) joseph() {
 	// Upper triangle of (A P) Aᵀ + (K R) Kᵀ, mirrored.
 	p, kr := c.p[:nx*nx], c.kr[:nx*nz]
 	abtUpper(p, c.tmp, a, nx, nx, nx, true)
-	for i := 0; i < nx; i++ {
+	for i := 0; nz == 2 && i < nx; i++ { // the same sums, unrolled
+		kr0, kr1 := kr[2*i], kr[2*i+1]
+		row := p[i*nx : i*nx+nx]
+		for j := i; j < len(row); j++ {
+			kj := k[2*j:][:2]
+			row[j] += kr0*kj[0] + kr1*kj[1]
+		}
+	}
+	for i := 0; nz != 2 && i < nx; i++ {
 		kri := kr[i*nz : i*nz+nz]
 		row := p[i*nx : i*nx+nx]
 		for j := i; j < nx; j++ {
@@ -368,6 +385,20 @@ func mirrorUpper(a []float64, n int) {
 // and columns four at a time, eight independent sums that share their
 // loads; each entry is still the plain dot product summed in order.
 func abtUpper(dst, a, b []float64, m, k, n int, sym bool) {
+	switch k {
+	case 3:
+		abtK3(dst, a, b, m, n, sym)
+		return
+	case 4:
+		abtK4(dst, a, b, m, n, sym)
+		return
+	case 5:
+		abtK5(dst, a, b, m, n, sym)
+		return
+	case 6:
+		abtK6(dst, a, b, m, n, sym)
+		return
+	}
 	b = b[:n*k]
 	if k == 2 { // (K R) Kᵀ and the like: no inner loop
 		a = a[:m*2]
