@@ -236,6 +236,32 @@ func builtinProblems() []ProblemSpec {
 					Step: v.Float("step"), Sigma: v.Float("sigma")})
 			},
 		},
+		{
+			Name:    "radar-replay",
+			Summary: "a real vessel track (smoothed) replayed as truth, seen by a simulated range-bearing radar (our scenario)",
+			Source: "real AIS/GPX/NMEA track (dataset named in the file's SOURCE.md; default: MarineCadastre AIS, US Coast Guard / BOEM / NOAA) " +
+				"with a simulated range-bearing sensor; RTS smoother: Rauch, Tung & Striebel 1965, AIAA J. 3(8)",
+			Params: []Param{
+				{Name: "steps", Kind: Int, Default: Value{Num: 0}, Doc: "number of time steps; 0 = the whole resampled track", Min: 0, Max: 1e7},
+				{Name: "file", Kind: String, Default: Value{Str: ""}, Doc: "recording to replay, relative to the current directory; empty = the shared AIS sample of New York Harbor"},
+				{Name: "format", Kind: String, Default: Value{Str: "auto"}, Choices: []string{"auto", "ais-csv", "ais-nmea", "gpx", "nmea"},
+					Doc: "format of the file; auto follows the extension (.csv, .gpx, .log/.nmea/.txt)"},
+				{Name: "track", Kind: String, Default: Value{Str: ""}, Doc: "track ID (MMSI, GPX track name, NMEA talker) or #n; empty = the longest path"},
+				{Name: "min_points", Kind: Int, Default: Value{Num: 15}, Doc: "fewest fixes of a track to be used", Min: 2, Max: 1e9},
+				{Name: "site", Kind: String, Default: Value{Str: "-3000,2000"}, Doc: `radar site: "E,N" metres from the first fix, or "geo:LAT,LON" degrees`},
+				{Name: "sigma_r", Kind: Float, Default: Value{Num: 15}, Doc: "range noise standard deviation in m", Min: 1e-9, Max: 1e9},
+				{Name: "sigma_theta", Kind: Float, Default: Value{Num: 2e-3}, Doc: "bearing noise standard deviation in rad", Min: 1e-12, Max: 1},
+				{Name: "dt", Kind: Float, Default: Value{Num: 10}, Doc: "step the track is resampled to, in s", Min: 1e-3, Max: 1e6},
+				{Name: "motion", Kind: String, Default: Value{Str: "cv"}, Choices: []string{"cv", "ct"}, Doc: "filters' motion model: constant velocity or coordinated turn"},
+				{Name: "q", Kind: Float, Default: Value{Num: 0.1}, Doc: "acceleration noise intensity of the model in m²/s³", Min: 1e-12, Max: 1e12},
+				{Name: "q2", Kind: Float, Default: Value{Num: 1e-5}, Doc: "ct: turn-rate noise intensity in rad²/s³", Min: 1e-15, Max: 1e6},
+			},
+			Build: func(v Values) (*datasets.Problem, error) {
+				return datasets.NewRadarReplay(datasets.RadarReplayConfig{Steps: v.Int("steps"), File: v.Str("file"), Format: v.Str("format"),
+					Track: v.Str("track"), MinPoints: v.Int("min_points"), Site: v.Str("site"), SigmaR: v.Float("sigma_r"),
+					SigmaTheta: v.Float("sigma_theta"), Dt: v.Float("dt"), Motion: v.Str("motion"), Q: v.Float("q"), Q2: v.Float("q2")})
+			},
+		},
 	}
 }
 

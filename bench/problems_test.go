@@ -27,6 +27,9 @@ var zeroConfig = map[string]func() (*datasets.Problem, error){
 	"multnoise": func() (*datasets.Problem, error) { return datasets.NewRicker(datasets.RickerConfig{}) },
 	"heavytail": func() (*datasets.Problem, error) { return datasets.NewHeavyTail(datasets.HeavyTailConfig{}) },
 	"quantised": func() (*datasets.Problem, error) { return datasets.NewQuantised(datasets.QuantisedConfig{}) },
+	"radar-replay": func() (*datasets.Problem, error) {
+		return datasets.NewRadarReplay(datasets.RadarReplayConfig{})
+	},
 }
 
 // The catalogue's parameter defaults are the constructors' documented
