@@ -224,8 +224,8 @@ func TestRadarReplayStreamAndNoise(t *testing.T) {
 	}
 }
 
-// Run allocates nothing once the Sequence is sized (doc.go's memory
-// contract), and the analytic Jacobians of both models match central
+// Run and the model functions allocate nothing once sized (doc.go's
+// memory contract), the batch functions equal the single ones, and the analytic Jacobians of both models match central
 // differences (to 1e-6 relative) along the default truth.
 func TestRadarReplayModels(t *testing.T) {
 	needReplaySample(t)
@@ -258,8 +258,28 @@ func TestRadarReplayModels(t *testing.T) {
 				}
 			}
 		}
-		if n := testing.AllocsPerRun(20, func() { m.HJac(hj, seq.State(1), 1); m.FJac(fj, seq.State(1), 1) }); n != 0 {
-			t.Errorf("%s: Jacobians allocate %v times per call", motion, n)
+		fx, hx := make([]float64, nx), make([]float64, 2)
+		if n := testing.AllocsPerRun(20, func() {
+			x := seq.State(1)
+			m.HJac(hj, x, 1)
+			m.FJac(fj, x, 1)
+			m.F(fx, x, 1)
+			m.H(hx, x, 1)
+		}); n != 0 {
+			t.Errorf("%s: model functions allocate %v times per call", motion, n)
+		}
+		// FMany and HMany apply F and H to each state (filters.Model).
+		const nb = 3
+		xs := seq.Truth[:nb*nx]
+		fb, hb := make([]float64, nb*nx), make([]float64, nb*2)
+		m.FMany(fb, xs, 1)
+		m.HMany(hb, xs, 1)
+		for i := range nb {
+			m.F(fx, xs[i*nx:(i+1)*nx], 1)
+			m.H(hx, xs[i*nx:(i+1)*nx], 1)
+			if !sameBits(fx, fb[i*nx:(i+1)*nx]) || !sameBits(hx, hb[2*i:2*i+2]) {
+				t.Fatalf("%s: batch state %d differs from the single call", motion, i)
+			}
 		}
 	}
 }
@@ -349,4 +369,23 @@ func TestRadarReplayDefaultFileLookup(t *testing.T) {
 	if !errors.Is(err, fs.ErrNotExist) || !strings.Contains(err.Error(), ReplayDefaultFile) {
 		t.Errorf("no shared folder: %v", err)
 	}
+}
+
+// BenchmarkRadarReplayRun measures one run of the default problem (131
+// steps): copying the truth and drawing the noise.
+func BenchmarkRadarReplayRun(b *testing.B) {
+	if _, err := os.Stat(replaySample); err != nil {
+		b.Skipf("dataset sample %s not found: %v", replaySample, err)
+	}
+	p, err := NewRadarReplay(RadarReplayConfig{File: replaySample})
+	if err != nil {
+		b.Fatal(err)
+	}
+	var seq Sequence
+	rng := newRNG(1, 1)
+	b.ReportAllocs()
+	for b.Loop() {
+		p.Run(&seq, rng)
+	}
+	b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N*p.Steps), "ns/step")
 }
