@@ -358,10 +358,10 @@ func (c *linCore) addLogLik() {
 // abt sets dst (m x n) = a bᵀ for a (m x k) and b (n x k): every entry is
 // a dot product of two rows. If sym (m == n), only the upper triangle is
 // computed and then mirrored: for products known to be symmetric, or when
-// the caller reads only the upper triangle. Columns are
-// taken four at a time with independent sums, so the additions do not
-// wait on one another; this is where the small filters spend their time.
-// dst must not alias a or b.
+// the caller reads only the upper triangle. Several entries are summed
+// at a time with independent sums, so the additions do not wait on one
+// another (see abtUpper); this is where the small filters spend their
+// time. dst must not alias a or b.
 func abt(dst, a, b []float64, m, k, n int, sym bool) {
 	abtUpper(dst, a, b, m, k, n, sym)
 	if sym {
