@@ -80,9 +80,8 @@ type Problem struct {
 	// Simulate, if not nil, replaces SimulateAdditive.
 	Simulate func(p *Problem, seq *Sequence, rng *rand.Rand)
 
-	// workspace for SimulateAdditive, sized on first use
-	lq, lr, lp []float64 // Cholesky factors of Q, R, P0
-	w          []float64 // noise draw
+	// SimulateAdditive's simulator, made on first use
+	sim *gaussSim
 }
 
 // Run fills seq with one run of the problem drawn from rng.
@@ -102,31 +101,11 @@ func (p *Problem) Run(seq *Sequence, rng *rand.Rand) {
 // A Problem is not safe for concurrent use by SimulateAdditive; the runner
 // gives each worker its own Problem.
 func (p *Problem) SimulateAdditive(seq *Sequence, rng *rand.Rand) {
-	m := &p.Model
-	nx, nz := m.Nx, m.Nz
-	seq.Resize(nx, nz, p.Steps)
-	if p.lq == nil {
-		p.lq = cholOrZero(m.Q, nx)
-		p.lr = cholOrZero(m.R, nz)
-		p.lp = cholOrZero(p.P0, nx)
-		p.w = make([]float64, max(nx, nz))
+	if p.sim == nil {
+		p.sim = newGaussSim(p.X0, p.P0, p.Model.Q, p.Model.R, p.Model.Nx, p.Model.Nz)
 	}
-	addGaussian(seq.X0, p.X0, p.lp, p.w[:nx], rng)
-	prev := seq.X0
-	for k := 1; k <= p.Steps; k++ {
-		seq.T[k-1] = float64(k) * p.Dt
-		x := seq.State(k)
-		m.F(x, prev, k)
-		addGaussian(x, x, p.lq, p.w[:nx], rng)
-		z := seq.Z[(k-1)*nz : k*nz]
-		m.H(z, x, k)
-		addGaussian(z, z, p.lr, p.w[:nz], rng)
-		for _, i := range m.AngleMeas {
-			z[i] = wrapPi(z[i])
-		}
-		seq.Has[k-1] = true
-		prev = x
-	}
+	p.sim.x0 = p.X0 // the prior mean as it is now
+	p.sim.run(p, seq, rng)
 }
 
 // addGaussian sets dst = mean + L n with n standard normal; dst may alias mean.
