@@ -182,24 +182,7 @@ func (f *EnKF) Reset(x0, p0 []float64, rng *rand.Rand) error {
 
 // addNoise adds l e to v, l lower triangular (len(v) square) with nonzero
 // columns cols, e standard normal.
-func (f *EnKF) addNoise(v, l []float64, cols []int) {
-	d := len(v)
-	e := f.e
-	for _, j := range cols {
-		e[j] = f.rng.NormFloat64()
-	}
-	for i := 0; i < d; i++ {
-		li := l[i*d : i*d+i+1]
-		var s float64
-		for _, j := range cols {
-			if j > i {
-				break
-			}
-			s += li[j] * e[j]
-		}
-		v[i] += s
-	}
-}
+func (f *EnKF) addNoise(v, l []float64, cols []int) { addFactorNoise(v, l, cols, f.e, f.rng) }
 
 // Predict moves every member to step k with sampled process noise and
 // inflates the deviations.

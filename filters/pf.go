@@ -271,14 +271,18 @@ func (f *PF) Reset(x0, p0 []float64, rng *rand.Rand) error {
 // addNoise adds l e to v, with l a lower triangular factor (Nx*Nx) whose
 // nonzero columns are cols (increasing) and e standard normal: one draw per
 // nonzero column, so a rank-deficient factor costs fewer draws.
-func (f *PF) addNoise(v, l []float64, cols []int) {
-	nx := len(v)
-	e := f.e
+func (f *PF) addNoise(v, l []float64, cols []int) { addFactorNoise(v, l, cols, f.e, f.rng) }
+
+// addFactorNoise adds l e to v, with l a lower triangular factor
+// (len(v) square) whose nonzero columns are cols (increasing) and e drawn
+// standard normal into the workspace e (at least len(v) long) from rng.
+func addFactorNoise(v, l []float64, cols []int, e []float64, rng *rand.Rand) {
+	d := len(v)
 	for _, j := range cols {
-		e[j] = f.rng.NormFloat64()
+		e[j] = rng.NormFloat64()
 	}
-	for i := 0; i < nx; i++ {
-		li := l[i*nx : i*nx+i+1]
+	for i := 0; i < d; i++ {
+		li := l[i*d : i*d+i+1]
 		var s float64
 		for _, j := range cols {
 			if j > i {
