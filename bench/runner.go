@@ -175,6 +175,7 @@ func runProblem(s *Suite, pl *problemPlan, workers int, opt Options, done *int, 
 	accs := make([]*metrics.Accumulator, nf)
 	for c := range accs {
 		accs[c] = metrics.NewAccumulator(steps, nx, nz)
+		accs[c].NoTruth = ws[0].prob.NoTruth
 	}
 
 	// A fixed pool of result buffers bounds memory whatever the number of runs.
@@ -258,6 +259,8 @@ func newTrace(steps int) metrics.RunTrace {
 		SqErr: make([]float64, steps),
 		NEES:  make([]float64, steps),
 		NIS:   make([]float64, steps),
+
+		PredSqErr: make([]float64, steps),
 	}
 }
 
@@ -468,25 +471,37 @@ func (w *worker) filterSteps(f filters.Filter) int {
 
 // score turns the kept estimates into the trace's per-step metrics. A
 // non-finite estimate or a covariance that is not positive definite ends
-// the run as diverged at that step.
+// the run as diverged at that step. For a problem without truth SqErr and
+// NEES are NaN (never made up); the estimate and its covariance are still
+// checked, the covariance through the NEES of a zero error.
 func (w *worker) score(tr *metrics.RunTrace) {
 	m := &w.prob.Model
 	nx, nz := m.Nx, m.Nz
+	noTruth := w.prob.NoTruth
 	for k := 1; k <= w.prob.Steps; k++ {
 		i := k - 1
 		x := w.xs[i*nx : (i+1)*nx]
-		truth := w.seq.State(k)
-		for j := range x {
-			w.err[j] = x[j] - truth[j]
+		if noTruth {
+			for j := range x {
+				w.err[j] = x[j] - x[j] // 0, or NaN for a non-finite estimate
+			}
+		} else {
+			truth := w.seq.State(k)
+			for j := range x {
+				w.err[j] = x[j] - truth[j]
+			}
+			for _, j := range m.AngleState {
+				w.err[j] = filters.WrapAngle(w.err[j])
+			}
 		}
-		for _, j := range m.AngleState {
-			w.err[j] = filters.WrapAngle(w.err[j])
-		}
-		var se float64
+		var se, all float64
 		for _, j := range w.prob.Scored {
 			se += w.err[j] * w.err[j]
 		}
-		if math.IsNaN(se) || math.IsInf(se, 0) {
+		for _, v := range w.err {
+			all += v
+		}
+		if math.IsNaN(se) || math.IsInf(se, 0) || (noTruth && math.IsNaN(all)) {
 			tr.Diverged, tr.DivStep, tr.Reason = true, k, "estimate not finite"
 			return
 		}
@@ -497,9 +512,19 @@ func (w *worker) score(tr *metrics.RunTrace) {
 		}
 		tr.SqErr[i] = se
 		tr.NEES[i] = nees
+		if noTruth {
+			tr.SqErr[i], tr.NEES[i] = math.NaN(), math.NaN()
+		}
 		tr.NIS[i] = math.NaN()
+		tr.PredSqErr[i] = math.NaN()
 		if w.hasInn[i] {
-			if nis, ok := metrics.Normalised(w.nus[i*nz:(i+1)*nz], w.ss[i*nz*nz:(i+1)*nz*nz], w.work); ok {
+			nu := w.nus[i*nz : (i+1)*nz]
+			var p float64
+			for _, v := range nu {
+				p += v * v
+			}
+			tr.PredSqErr[i] = p
+			if nis, ok := metrics.Normalised(nu, w.ss[i*nz*nz:(i+1)*nz*nz], w.work); ok {
 				tr.NIS[i] = nis
 			}
 		}

@@ -77,6 +77,12 @@ type Problem struct {
 	Scored []int   // state components scored by RMSE
 	Traits Traits
 
+	// NoTruth says the problem has no ground truth: its measurements are
+	// recorded, the same in every run, and Sequence.Truth and X0 hold NaN.
+	// The runner then scores no error (RMSE, NEES), only what needs no
+	// truth: NIS and the one-step-ahead prediction error.
+	NoTruth bool
+
 	// Simulate, if not nil, replaces SimulateAdditive.
 	Simulate func(p *Problem, seq *Sequence, rng *rand.Rand)
 

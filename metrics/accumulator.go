@@ -22,6 +22,14 @@ type Accumulator struct {
 	// If zero, DefaultResamples (2000) is used.
 	Resamples int
 
+	// NoTruth says the runs have no ground truth: recorded data, the same
+	// in every run. Summary and Curves then give NaN for RMSE and ANEES
+	// and their intervals and bounds (SqErr and NEES are ignored), and
+	// the ANIS bounds are those of one run's measurements, since the runs
+	// replay the same data and are not independent samples of it. Set it
+	// before the first Add.
+	NoTruth bool
+
 	steps, nx, nz int
 
 	runs     int // traces added, diverged or not
@@ -36,6 +44,8 @@ type Accumulator struct {
 	nees     []float64 // Σ_r NEES_r(k)
 	nis      []float64 // Σ_r NIS_r(k) over the runs with a measurement at k
 	nisCount []int     // number of those runs
+	predSq   []float64 // Σ_r PredSqErr_r(k) over the runs with a value at k
+	predN    []int     // number of those runs
 
 	repairs, repairRuns int // covariance repairs over all runs; runs that needed one
 
@@ -63,6 +73,8 @@ func NewAccumulator(steps, nx, nz int) *Accumulator {
 		nees:     make([]float64, steps),
 		nis:      make([]float64, steps),
 		nisCount: make([]int, steps),
+		predSq:   make([]float64, steps),
+		predN:    make([]int, steps),
 	}
 }
 
@@ -104,6 +116,7 @@ func (a *Accumulator) Add(t *RunTrace) {
 		a.check("SqErr", len(t.SqErr), false)
 		a.check("NEES", len(t.NEES), false)
 		a.check("NIS", len(t.NIS), true)
+		a.check("PredSqErr", len(t.PredSqErr), true)
 		a.check("ESS", len(t.ESS), true)
 	}
 	a.runs++
@@ -136,6 +149,12 @@ func (a *Accumulator) Add(t *RunTrace) {
 			}
 		}
 	}
+	for k, v := range t.PredSqErr {
+		if !math.IsNaN(v) {
+			a.predSq[k] += v
+			a.predN[k]++
+		}
+	}
 	for _, v := range t.ESS {
 		a.essSum += v
 	}
@@ -162,7 +181,7 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 	nan := math.NaN()
 	s := Summary{
 		Runs: a.runs, Diverged: a.diverged,
-		RMSE: nan, RMSELo: nan, RMSEHi: nan,
+		RMSE: nan, RMSELo: nan, RMSEHi: nan, PredRMSE: nan,
 		ANEES: nan, ANEESLo: nan, ANEESHi: nan, NEESInBounds: nan,
 		ANIS: nan, ANISLo: nan, ANISHi: nan, NISInBounds: nan,
 		NsPerStep: nan, MeanESS: nan,
@@ -193,11 +212,23 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 
 	Mf, K := float64(M), float64(a.steps)
 
+	// The one-step-ahead prediction error over the (run, step) pairs
+	// with an innovation.
+	if n := sumInts(a.predN); n > 0 {
+		s.PredRMSE = math.Sqrt(sum(a.predSq) / float64(n))
+	}
+
 	// RMSE over all runs and steps, and its bootstrap interval over runs.
-	s.RMSE = math.Sqrt(sum(a.sqErr) / (Mf * K))
-	if M < 2 {
-		s.Warnings = append(s.Warnings, "the RMSE interval needs at least 2 runs: use --runs 20 or more")
+	if a.NoTruth {
+		s.Warnings = append(s.Warnings, NoTruthWarning)
 	} else {
+		s.RMSE = math.Sqrt(sum(a.sqErr) / (Mf * K))
+	}
+	switch {
+	case a.NoTruth:
+	case M < 2:
+		s.Warnings = append(s.Warnings, "the RMSE interval needs at least 2 runs: use --runs 20 or more")
+	default:
 		s.RMSELo, s.RMSEHi = Bootstrap(M, a.Resamples, bootSeed, level, func(idx []int) float64 {
 			var m float64
 			for _, i := range idx {
@@ -208,16 +239,18 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 	}
 
 	// ANEES and the fraction of steps whose run average is in bounds.
-	s.ANEES = sum(a.nees) / (Mf * K)
-	s.ANEESLo, s.ANEESHi = ChiSquareBounds(Mf*K*float64(a.nx), Mf*K, level)
-	lo, hi := ChiSquareBounds(Mf*float64(a.nx), Mf, level)
-	in := 0
-	for _, v := range a.nees {
-		if avg := v / Mf; avg >= lo && avg <= hi {
-			in++
+	if !a.NoTruth {
+		s.ANEES = sum(a.nees) / (Mf * K)
+		s.ANEESLo, s.ANEESHi = ChiSquareBounds(Mf*K*float64(a.nx), Mf*K, level)
+		lo, hi := ChiSquareBounds(Mf*float64(a.nx), Mf, level)
+		in := 0
+		for _, v := range a.nees {
+			if avg := v / Mf; avg >= lo && avg <= hi {
+				in++
+			}
 		}
+		s.NEESInBounds = float64(in) / K
 	}
-	s.NEESInBounds = float64(in) / K
 
 	// ANIS over the (run, step) pairs with a measurement.
 	if a.nz > 0 {
@@ -230,7 +263,7 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 			}
 			total += c
 			stepsWith++
-			lo, hi := bc.get(c, a.nz)
+			lo, hi := bc.get(a.independent(c), a.nz)
 			if avg := a.nis[k] / float64(c); avg >= lo && avg <= hi {
 				in++
 			}
@@ -238,6 +271,9 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 		if total > 0 {
 			n := float64(total)
 			s.ANIS = sum(a.nis) / n
+			if a.NoTruth {
+				n = float64(stepsWith) // one run's worth of independent values
+			}
 			s.ANISLo, s.ANISHi = ChiSquareBounds(n*float64(a.nz), n, level)
 			s.NISInBounds = float64(in) / float64(stepsWith)
 		}
@@ -261,21 +297,24 @@ func (a *Accumulator) Curves() []CurvePoint {
 	Mf := float64(M)
 	nan := math.NaN()
 	lo, hi := nan, nan
-	if M > 0 {
+	if M > 0 && !a.NoTruth {
 		lo, hi = ChiSquareBounds(Mf*float64(a.nx), Mf, level)
 	}
 	var bc boundsCache
 	out := make([]CurvePoint, a.steps)
 	for k := range out {
-		p := CurvePoint{Step: k + 1, RMSE: nan, ANEES: nan, ANEESLo: lo, ANEESHi: hi, ANIS: nan, Runs: M, ANISLo: nan, ANISHi: nan}
-		if M > 0 {
+		p := CurvePoint{Step: k + 1, RMSE: nan, PredRMSE: nan, ANEES: nan, ANEESLo: lo, ANEESHi: hi, ANIS: nan, Runs: M, ANISLo: nan, ANISHi: nan}
+		if c := a.predN[k]; c > 0 {
+			p.PredRMSE = math.Sqrt(a.predSq[k] / float64(c))
+		}
+		if M > 0 && !a.NoTruth {
 			p.RMSE = math.Sqrt(a.sqErr[k] / Mf)
 			p.ANEES = a.nees[k] / Mf
 		}
 		if c := a.nisCount[k]; c > 0 {
 			p.NISRuns = c
 			p.ANIS = a.nis[k] / float64(c)
-			p.ANISLo, p.ANISHi = bc.get(c, a.nz)
+			p.ANISLo, p.ANISHi = bc.get(a.independent(c), a.nz)
 		}
 		out[k] = p
 	}
@@ -297,6 +336,26 @@ func (b *boundsCache) get(c, dof int) (lo, hi float64) {
 	return b.lo, b.hi
 }
 
+// NoTruthWarning is the Summary warning of a problem without ground truth.
+const NoTruthWarning = "no ground truth: rmse and anees are not defined; pred_rmse and anis are"
+
+// independent is the number of independent NIS values behind c runs' values
+// at one step: c, or 1 when the runs replay the same recorded data.
+func (a *Accumulator) independent(c int) int {
+	if a.NoTruth {
+		return 1
+	}
+	return c
+}
+
+func sumInts(v []int) int {
+	var s int
+	for _, x := range v {
+		s += x
+	}
+	return s
+}
+
 // sum adds v in index order.
 func sum(v []float64) float64 {
 	var s float64
@@ -314,7 +373,7 @@ func RunStatOf(t *RunTrace) RunStat {
 	nan := math.NaN()
 	r := RunStat{
 		Run: t.Run, Diverged: t.Diverged, DivStep: t.DivStep, Reason: t.Reason,
-		RMSE: nan, ANEES: nan, ANIS: nan, NsPerStep: t.NsPerStep, MeanESS: nan,
+		RMSE: nan, PredRMSE: nan, ANEES: nan, ANIS: nan, NsPerStep: t.NsPerStep, MeanESS: nan,
 		Repairs: t.Repairs,
 	}
 	if t.Diverged {
@@ -336,6 +395,17 @@ func RunStatOf(t *RunTrace) RunStat {
 	}
 	if nc > 0 {
 		r.ANIS = ns / float64(nc)
+	}
+	var ps float64
+	var pc int
+	for _, v := range t.PredSqErr {
+		if !math.IsNaN(v) {
+			ps += v
+			pc++
+		}
+	}
+	if pc > 0 {
+		r.PredRMSE = math.Sqrt(ps / float64(pc))
 	}
 	if len(t.ESS) > 0 {
 		r.MeanESS = sum(t.ESS) / float64(len(t.ESS))

@@ -180,15 +180,18 @@ func chi2Draw(rng *rand.Rand, n int) float64 {
 func consistentRuns(M, K, nx, nz int, miss, scale float64, seed uint64) *Accumulator {
 	rng := rand.New(rand.NewPCG(seed, 1))
 	acc := NewAccumulator(K, nx, nz)
-	tr := RunTrace{SqErr: make([]float64, K), NEES: make([]float64, K), NIS: make([]float64, K)}
+	tr := RunTrace{SqErr: make([]float64, K), NEES: make([]float64, K), NIS: make([]float64, K), PredSqErr: make([]float64, K)}
 	for r := range M {
 		tr.Run = r
 		for k := range K {
 			tr.SqErr[k] = chi2Draw(rng, nx)
 			tr.NEES[k] = scale * chi2Draw(rng, nx)
-			tr.NIS[k] = scale * chi2Draw(rng, nz)
+			// With S = I the squared innovation norm is the NIS of the
+			// consistent filter, before the scale.
+			tr.PredSqErr[k] = chi2Draw(rng, nz)
+			tr.NIS[k] = scale * tr.PredSqErr[k]
 			if rng.Float64() < miss {
-				tr.NIS[k] = nan
+				tr.NIS[k], tr.PredSqErr[k] = nan, nan
 			}
 		}
 		acc.Add(&tr)
@@ -414,5 +417,67 @@ func TestAccumulatorRepairs(t *testing.T) {
 	}
 	if st := RunStatOf(&RunTrace{Run: 0, Repairs: 4, SqErr: []float64{1}, NEES: []float64{1}}); st.Repairs != 4 {
 		t.Fatalf("RunStat repairs %d", st.Repairs)
+	}
+}
+
+// For a consistent filter E‖ν‖² = tr S (Bar-Shalom, Li & Kirubarajan 2001,
+// §5.4); consistentRuns has S = I with nz = 1, so ‖ν‖² is χ²_1 with mean 1
+// and variance 2. Over about 0.7·100·1000 = 70000 values the mean has sd
+// sqrt(2/70000) = 0.0053; PredRMSE² must be within 4 sd (0.021) of 1.
+func TestAccumulatorPredRMSE(t *testing.T) {
+	a := consistentRuns(100, 1000, 2, 1, 0.3, 1, 3)
+	s := a.Summary(0)
+	if d := s.PredRMSE*s.PredRMSE - 1; math.Abs(d) > 0.021 {
+		t.Errorf("PredRMSE² = %v, want 1 ± 0.021", s.PredRMSE*s.PredRMSE)
+	}
+	// Hand-worked: two runs of two steps, values 1, NaN and 4, 9: the
+	// mean over the three values is 14/3; step 2 has sqrt(9) = 3.
+	b := NewAccumulator(2, 1, 1)
+	b.Add(&RunTrace{Run: 0, SqErr: []float64{0, 0}, NEES: []float64{1, 1}, PredSqErr: []float64{1, nan}})
+	b.Add(&RunTrace{Run: 1, SqErr: []float64{0, 0}, NEES: []float64{1, 1}, PredSqErr: []float64{4, 9}})
+	if got, want := b.Summary(0).PredRMSE, math.Sqrt(14.0/3); !near(got, want, 1e-15) {
+		t.Errorf("hand-worked PredRMSE = %v, want %v", got, want)
+	}
+	if c := b.Curves(); !near(c[0].PredRMSE, math.Sqrt(2.5), 1e-15) || c[1].PredRMSE != 3 {
+		t.Errorf("curve PredRMSE = %v, %v, want sqrt(2.5), 3", c[0].PredRMSE, c[1].PredRMSE)
+	}
+	if got := RunStatOf(&RunTrace{PredSqErr: []float64{1, nan, 4}}).PredRMSE; !near(got, math.Sqrt(2.5), 1e-15) {
+		t.Errorf("RunStatOf PredRMSE = %v, want sqrt(2.5)", got)
+	}
+}
+
+// Without truth RMSE and ANEES are NaN, never made up, and the ANIS bounds
+// are those of one run's measurements: ChiSquareBounds(m·nz, m) with m the
+// steps with a measurement, here every one of K = 40.
+func TestAccumulatorNoTruth(t *testing.T) {
+	const K = 40
+	a := NewAccumulator(K, 2, 1)
+	a.NoTruth = true
+	tr := RunTrace{SqErr: make([]float64, K), NEES: make([]float64, K), NIS: make([]float64, K), PredSqErr: make([]float64, K)}
+	for k := range K {
+		tr.SqErr[k], tr.NEES[k], tr.NIS[k], tr.PredSqErr[k] = nan, nan, 1, 4
+	}
+	for r := range 20 {
+		tr.Run = r
+		a.Add(&tr)
+	}
+	s := a.Summary(0)
+	for name, v := range map[string]float64{"RMSE": s.RMSE, "RMSELo": s.RMSELo, "RMSEHi": s.RMSEHi, "ANEES": s.ANEES,
+		"ANEESLo": s.ANEESLo, "ANEESHi": s.ANEESHi, "NEESInBounds": s.NEESInBounds} {
+		if !math.IsNaN(v) {
+			t.Errorf("%s = %v without truth, want NaN", name, v)
+		}
+	}
+	lo, hi := ChiSquareBounds(K, K, 0.95)
+	if s.ANIS != 1 || s.ANISLo != lo || s.ANISHi != hi || s.PredRMSE != 2 {
+		t.Errorf("ANIS %v [%v, %v] PredRMSE %v, want 1 [%v, %v] and 2", s.ANIS, s.ANISLo, s.ANISHi, s.PredRMSE, lo, hi)
+	}
+	if len(s.Warnings) != 1 || s.Warnings[0] != NoTruthWarning {
+		t.Errorf("warnings %q, want only %q", s.Warnings, NoTruthWarning)
+	}
+	c := a.Curves()[0]
+	lo1, hi1 := ChiSquareBounds(1, 1, 0.95)
+	if !math.IsNaN(c.RMSE) || !math.IsNaN(c.ANEES) || !math.IsNaN(c.ANEESLo) || c.ANISLo != lo1 || c.ANISHi != hi1 {
+		t.Errorf("curve %+v, want RMSE, ANEES and its bounds NaN, ANIS bounds [%v, %v]", c, lo1, hi1)
 	}
 }

@@ -51,6 +51,22 @@
 // (Bar-Shalom et al. 2001, §5.4). A consistent estimator has both near 0.95.
 // ANEES is not divided by nx: a consistent estimator has ANEES near nx.
 //
+// The one-step-ahead prediction error needs no truth. With ν_r(k) here
+// the innovation z_r(k) − ẑ_r(k|k−1) (PredSqErr holds ‖ν_r(k)‖², angle
+// components wrapped) and P the (run, step) pairs with an innovation,
+//
+//	PredRMSE = sqrt( Σ_(r,k)∈P ‖ν_r(k)‖² / |P| )
+//
+// For a consistent filter E‖ν‖² = tr S, S the innovation covariance
+// (Bar-Shalom et al. 2001, §5.4), so PredRMSE is near sqrt(mean tr S); it
+// mixes units when the measurement does (range and bearing).
+//
+// With NoTruth (recorded data: no truth, the same data in every run) RMSE,
+// ANEES, their intervals and bounds and NEESInBounds are NaN, Summary
+// warns NoTruthWarning, and ANISLo/Hi use m = the number of steps with a
+// measurement (one run's values; the runs are not independent samples of
+// the data), the per-step NIS bounds m = 1.
+//
 // RMSELo/Hi is the 95% percentile bootstrap interval over runs (Efron &
 // Tibshirani 1993, "An Introduction to the Bootstrap", §13.3): runs are
 // resampled with replacement, each resample scored as the square root of

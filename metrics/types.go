@@ -10,6 +10,12 @@ type RunTrace struct {
 	NEES  []float64 // normalised estimation error squared, full state
 	NIS   []float64 // normalised innovation squared; NaN where no measurement
 
+	// PredSqErr is the squared norm of the innovation, ‖z_k − ẑ_{k|k−1}‖²
+	// over all measurement components (angles wrapped): the one-step-ahead
+	// prediction error, which needs no truth. NaN where there is no
+	// measurement or the filter reports no innovation; nil if none is kept.
+	PredSqErr []float64
+
 	NsPerStep float64   // wall time of the filter steps divided by the steps
 	ESS       []float64 // effective sample size per step (nil for non-particle filters)
 
@@ -28,6 +34,10 @@ type Summary struct {
 
 	RMSE, RMSELo, RMSEHi float64 // RMSE and its 95% bootstrap interval over runs
 
+	// PredRMSE is the root of the mean of PredSqErr over runs and the
+	// steps with a measurement: the one-step-ahead prediction error.
+	PredRMSE float64
+
 	ANEES, ANEESLo, ANEESHi float64 // average NEES and its two-sided 95% chi-square bounds
 	NEESInBounds            float64 // fraction of steps whose run-averaged NEES is inside its own 95% bounds
 
@@ -43,13 +53,16 @@ type Summary struct {
 
 // CurvePoint is one step of a per-step curve over runs.
 type CurvePoint struct {
-	Step    int
-	RMSE    float64 // sqrt of the mean over runs of the squared error norm at this step
-	ANEES   float64 // NEES averaged over runs at this step
-	ANEESLo float64 // its 95% bounds for the runs that contributed
-	ANEESHi float64
-	ANIS    float64 // NaN where no run had a measurement
-	Runs    int     // runs that contributed (non-diverged)
+	Step int
+	RMSE float64 // sqrt of the mean over runs of the squared error norm at this step
+	// PredRMSE is the root of the mean over runs of PredSqErr at this
+	// step; NaN where no run had a measurement.
+	PredRMSE float64
+	ANEES    float64 // NEES averaged over runs at this step
+	ANEESLo  float64 // its 95% bounds for the runs that contributed
+	ANEESHi  float64
+	ANIS     float64 // NaN where no run had a measurement
+	Runs     int     // runs that contributed (non-diverged)
 
 	ANISLo, ANISHi float64 // 95% bounds of ANIS for the NISRuns measurements; NaN if none
 	NISRuns        int     // non-diverged runs that had a measurement at this step
@@ -64,6 +77,7 @@ type RunStat struct {
 	Reason   string
 
 	RMSE      float64 // sqrt of the mean over steps of SqErr
+	PredRMSE  float64 // sqrt of the mean of PredSqErr over the steps with a value; NaN if none
 	ANEES     float64 // mean over steps of NEES
 	ANIS      float64 // mean of NIS over the steps with a measurement; NaN if none
 	NsPerStep float64 // as recorded in the trace, also for a diverged run

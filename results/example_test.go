@@ -16,7 +16,7 @@ func ExampleWriteSummary() {
 		{
 			Problem: "launch", Filter: "ukf", Applicable: true,
 			Summary: metrics.Summary{
-				Runs: 50, RMSE: 12.41, RMSELo: 11.8, RMSEHi: 13.05,
+				Runs: 50, RMSE: 12.41, RMSELo: 11.8, RMSEHi: 13.05, PredRMSE: 16.93,
 				ANEES: 4.31, ANEESLo: 3.83, ANEESHi: 4.18, NEESInBounds: 0.71,
 				ANIS: 2.02, ANISLo: 1.92, ANISHi: 2.08, NsPerStep: 2210, MeanESS: nan,
 			},
@@ -26,10 +26,10 @@ func ExampleWriteSummary() {
 	}
 	results.WriteSummary(os.Stdout, "markdown", rows, results.Provenance{})
 	// Output:
-	// | problem | filter | config | runs | diverged | RMSE [95% CI] | ANEES [95% bounds] | NEES in (%) | ANIS [95% bounds] | µs/step | allocs/step | evals/step | notes |
-	// | :--- | :--- | :--- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | :--- |
-	// | launch | ukf | default | 50 | 0 | 12.4 [11.8, 13.1] | 4.31 [3.83, 4.18] high | 71.0 | 2.02 [1.92, 2.08] in | 2.21 | 0 | 18 |  |
-	// | launch | kf | default | - | - | - | - | - | - | - | - | - | [1] |
+	// | problem | filter | config | runs | diverged | RMSE [95% CI] | pred RMSE | ANEES [95% bounds] | NEES in (%) | ANIS [95% bounds] | µs/step | allocs/step | evals/step | notes |
+	// | :--- | :--- | :--- | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | ---: | :--- |
+	// | launch | ukf | default | 50 | 0 | 12.4 [11.8, 13.1] | 16.9 | 4.31 [3.83, 4.18] high | 71.0 | 2.02 [1.92, 2.08] in | 2.21 | 0 | 18 |  |
+	// | launch | kf | default | - | - | - | - | - | - | - | - | - | - | [1] |
 	//
 	// Notes:
 	//

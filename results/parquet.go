@@ -333,11 +333,12 @@ func (w *RunsWriter) Write(r RunRow) error {
 	t.int(5, r.DivStep)
 	t.str(6, r.Reason)
 	t.float(7, r.RMSE)
-	t.float(8, r.ANEES)
-	t.float(9, r.ANIS)
-	t.float(10, r.NsPerStep)
-	t.float(11, r.MeanESS)
-	t.int(12, r.Repairs)
+	t.float(8, r.PredRMSE)
+	t.float(9, r.ANEES)
+	t.float(10, r.ANIS)
+	t.float(11, r.NsPerStep)
+	t.float(12, r.MeanESS)
+	t.int(13, r.Repairs)
 	return t.endRow()
 }
 
@@ -372,11 +373,12 @@ func (w *CurvesWriter) Write(r CurveRow) error {
 	t.str(2, r.Config)
 	t.int(3, r.Step)
 	t.float(4, r.RMSE)
-	t.float(5, r.ANEES)
-	t.float(6, r.ANEESLo)
-	t.float(7, r.ANEESHi)
-	t.float(8, r.ANIS)
-	t.int(9, r.Runs)
+	t.float(5, r.PredRMSE)
+	t.float(6, r.ANEES)
+	t.float(7, r.ANEESLo)
+	t.float(8, r.ANEESHi)
+	t.float(9, r.ANIS)
+	t.int(10, r.Runs)
 	return t.endRow()
 }
 
@@ -562,8 +564,8 @@ func ReadRunsParquet(path string) ([]RunRow, error) {
 			Problem: t.strs[0][k], Filter: t.strs[1][k], Config: t.strs[2][k],
 			RunStat: metrics.RunStat{
 				Run: int(t.ints[3][k]), Diverged: t.bools[4][k], DivStep: int(t.ints[5][k]), Reason: t.strs[6][k],
-				RMSE: t.flts[7][k], ANEES: t.flts[8][k], ANIS: t.flts[9][k],
-				NsPerStep: t.flts[10][k], MeanESS: t.flts[11][k], Repairs: int(t.ints[12][k]),
+				RMSE: t.flts[7][k], PredRMSE: t.flts[8][k], ANEES: t.flts[9][k], ANIS: t.flts[10][k],
+				NsPerStep: t.flts[11][k], MeanESS: t.flts[12][k], Repairs: int(t.ints[13][k]),
 			},
 		}
 	}
@@ -581,8 +583,8 @@ func ReadCurvesParquet(path string) ([]CurveRow, error) {
 		rows[k] = CurveRow{
 			Problem: t.strs[0][k], Filter: t.strs[1][k], Config: t.strs[2][k],
 			CurvePoint: metrics.CurvePoint{
-				Step: int(t.ints[3][k]), RMSE: t.flts[4][k], ANEES: t.flts[5][k],
-				ANEESLo: t.flts[6][k], ANEESHi: t.flts[7][k], ANIS: t.flts[8][k], Runs: int(t.ints[9][k]),
+				Step: int(t.ints[3][k]), RMSE: t.flts[4][k], PredRMSE: t.flts[5][k], ANEES: t.flts[6][k],
+				ANEESLo: t.flts[7][k], ANEESHi: t.flts[8][k], ANIS: t.flts[9][k], Runs: int(t.ints[10][k]),
 			},
 		}
 	}

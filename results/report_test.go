@@ -31,7 +31,7 @@ func reportFixture() *ReportData {
 	s := func(runs, div int, rmse, lo, hi, anees, alo, ahi, in, anis, nlo, nhi, ns float64) metrics.Summary {
 		return metrics.Summary{Runs: runs, Diverged: div, RMSE: rmse, RMSELo: lo, RMSEHi: hi,
 			ANEES: anees, ANEESLo: alo, ANEESHi: ahi, NEESInBounds: in,
-			ANIS: anis, ANISLo: nlo, ANISHi: nhi, NISInBounds: nan, NsPerStep: ns, MeanESS: nan}
+			ANIS: anis, ANISLo: nlo, ANISHi: nhi, NISInBounds: nan, NsPerStep: ns, MeanESS: nan, PredRMSE: nan}
 	}
 	rows := []SummaryRow{
 		{Problem: "cv2d", Filter: "kf", Applicable: true, Summary: s(50, 0, 8.71, 8.49, 8.95, 4.012, 3.890, 4.112, 0.95, 2.004, 1.945, 2.056, 1480)},

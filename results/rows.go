@@ -12,7 +12,7 @@ import (
 // order.
 var SummaryColumns = []string{
 	"problem", "filter", "config", "runs", "diverged",
-	"rmse", "rmse_ci_lo", "rmse_ci_hi",
+	"rmse", "rmse_ci_lo", "rmse_ci_hi", "pred_rmse",
 	"anees", "anees_bound_lo", "anees_bound_hi", "nees_in_bounds",
 	"anis", "anis_bound_lo", "anis_bound_hi",
 	"ns_per_step", "allocs_per_step", "evals_per_step", "mean_ess", "repairs", "note",
@@ -21,13 +21,13 @@ var SummaryColumns = []string{
 // RunColumns are the columns of runs.parquet, in order.
 var RunColumns = []string{
 	"problem", "filter", "config", "run", "diverged", "div_step", "reason",
-	"rmse", "anees", "anis", "ns_per_step", "mean_ess", "repairs",
+	"rmse", "pred_rmse", "anees", "anis", "ns_per_step", "mean_ess", "repairs",
 }
 
 // CurveColumns are the columns of curves.parquet, in order.
 var CurveColumns = []string{
 	"problem", "filter", "config", "step",
-	"rmse", "anees", "anees_bound_lo", "anees_bound_hi", "anis", "runs",
+	"rmse", "pred_rmse", "anees", "anees_bound_lo", "anees_bound_hi", "anis", "runs",
 }
 
 // SummaryRow is one (problem, filter configuration) pair of a suite.
@@ -108,7 +108,7 @@ func summaryValues(r *SummaryRow) [summaryFloats]float64 {
 	}
 	s := &r.Summary
 	return [summaryFloats]float64{
-		s.RMSE, s.RMSELo, s.RMSEHi,
+		s.RMSE, s.RMSELo, s.RMSEHi, s.PredRMSE,
 		s.ANEES, s.ANEESLo, s.ANEESHi, s.NEESInBounds,
 		s.ANIS, s.ANISLo, s.ANISHi,
 		s.NsPerStep, r.AllocsPerStep, r.EvalsPerStep, s.MeanESS, float64(s.Repairs),
@@ -116,7 +116,7 @@ func summaryValues(r *SummaryRow) [summaryFloats]float64 {
 }
 
 // summaryFloats is the number of float64 columns of the summary.
-const summaryFloats = 15
+const summaryFloats = 16
 
 // summaryCounts returns the runs and diverged columns; 0 when the row does
 // not apply.
@@ -130,12 +130,12 @@ func summaryCounts(r *SummaryRow) (runs, diverged int) {
 // setSummaryValues is the inverse of summaryValues, used by the reader.
 func setSummaryValues(r *SummaryRow, v *[summaryFloats]float64) {
 	s := &r.Summary
-	s.RMSE, s.RMSELo, s.RMSEHi = v[0], v[1], v[2]
-	s.ANEES, s.ANEESLo, s.ANEESHi, s.NEESInBounds = v[3], v[4], v[5], v[6]
-	s.ANIS, s.ANISLo, s.ANISHi = v[7], v[8], v[9]
-	s.NsPerStep, r.AllocsPerStep, r.EvalsPerStep = v[10], v[11], v[12]
-	s.MeanESS = v[13]
-	if !math.IsNaN(v[14]) {
-		s.Repairs = int(v[14])
+	s.RMSE, s.RMSELo, s.RMSEHi, s.PredRMSE = v[0], v[1], v[2], v[3]
+	s.ANEES, s.ANEESLo, s.ANEESHi, s.NEESInBounds = v[4], v[5], v[6], v[7]
+	s.ANIS, s.ANISLo, s.ANISHi = v[8], v[9], v[10]
+	s.NsPerStep, r.AllocsPerStep, r.EvalsPerStep = v[11], v[12], v[13]
+	s.MeanESS = v[14]
+	if !math.IsNaN(v[15]) {
+		s.Repairs = int(v[15])
 	}
 }

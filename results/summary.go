@@ -91,6 +91,7 @@ const (
 	hRuns
 	hDiverged
 	hRMSE
+	hPred
 	hANEES
 	hNEESIn
 	hANIS
@@ -106,13 +107,16 @@ const (
 const missing = "-"
 
 func buildHuman(rows []SummaryRow, prov Provenance) *human {
-	var rmse, anees, anis, ns, inb, allocs, evals, ess []float64
+	var rmse, pred, anees, anis, ns, inb, allocs, evals, ess []float64
 	for i := range rows {
 		r := &rows[i]
 		if !r.Applicable {
 			continue
 		}
 		rmse = append(rmse, r.RMSE, r.RMSELo, r.RMSEHi)
+		if !math.IsNaN(r.PredRMSE) {
+			pred = append(pred, r.PredRMSE)
+		}
 		// The consistency columns take their scale from the bounds, which
 		// sit near the dimension; an ANEES far outside them (a collapsed
 		// particle cloud) is shown on its own in e-notation by format.
@@ -130,6 +134,7 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 	}
 	scESS := scale{div: 1, decimals: decimalsFor(minNonzero(ess))}
 	scRMSE := magnitudeScale(rmse)
+	scPred := magnitudeScale(pred)
 	scANEES := magnitudeScale(anees)
 	scANIS := magnitudeScale(anis)
 	scTime := timeScale(ns)
@@ -147,6 +152,7 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 		head: []string{
 			"problem", "filter", "config", "runs", "diverged",
 			withFactor("RMSE", scRMSE) + " [95% CI]",
+			withFactor("pred RMSE", scPred),
 			withFactor("ANEES", scANEES) + " [95% bounds]",
 			"NEES in (%)",
 			withFactor("ANIS", scANIS) + " [95% bounds]",
@@ -156,7 +162,7 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 			"mean ESS",
 			"notes",
 		},
-		right: []bool{false, false, false, true, true, true, true, true, true, true, true, true, true, false},
+		right: []bool{false, false, false, true, true, true, true, true, true, true, true, true, true, true, false},
 		prov:  provenanceLine(prov),
 	}
 	index := map[string]int{} // note text -> footnote number
@@ -174,6 +180,7 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 			c[hRuns] = strconv.Itoa(r.Runs)
 			c[hDiverged] = strconv.Itoa(r.Diverged)
 			c[hRMSE] = withInterval(scRMSE, r.RMSE, r.RMSELo, r.RMSEHi)
+			c[hPred] = scPred.format(r.PredRMSE)
 			c[hANEES] = withBounds(scANEES, r.ANEES, r.ANEESLo, r.ANEESHi)
 			c[hNEESIn] = scIn.format(100 * r.NEESInBounds)
 			c[hANIS] = withBounds(scANIS, r.ANIS, r.ANISLo, r.ANISHi)
@@ -203,6 +210,9 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 	}
 	if len(evals) == 0 {
 		h.drop(hEvals) // no row has a count of model evaluations
+	}
+	if len(pred) == 0 {
+		h.drop(hPred) // no filter in the table reports its innovation
 	}
 	return h
 }
