@@ -6,6 +6,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"slices"
 	"strings"
 	"testing"
 
@@ -31,6 +32,7 @@ var zeroConfig = map[string]func() (*datasets.Problem, error){
 	"radar-replay": func() (*datasets.Problem, error) {
 		return datasets.NewRadarReplay(datasets.RadarReplayConfig{})
 	},
+	"track": func() (*datasets.Problem, error) { return datasets.NewTrack(datasets.TrackConfig{}) },
 }
 
 // The catalogue's parameter defaults are the constructors' documented
@@ -45,7 +47,7 @@ func TestCatalogueDefaultsAreConstructorDefaults(t *testing.T) {
 	}
 	for _, spec := range cat.Problems {
 		t.Run(spec.Name, func(t *testing.T) {
-			if spec.Name == "radar-replay" {
+			if spec.Name == "radar-replay" || spec.Name == "track" {
 				requireReplaySample(t)
 			}
 			build, ok := zeroConfig[spec.Name]
@@ -84,11 +86,17 @@ func TestCatalogueDefaultsAreConstructorDefaults(t *testing.T) {
 			var sa, sb datasets.Sequence
 			a.Run(&sa, rand.New(rand.NewPCG(5, 6)))
 			b.Run(&sb, rand.New(rand.NewPCG(5, 6)))
-			if !reflect.DeepEqual(sa.Truth, sb.Truth) || !reflect.DeepEqual(sa.Z, sb.Z) {
+			if !sameFloats(sa.Truth, sb.Truth) || !reflect.DeepEqual(sa.Z, sb.Z) || !reflect.DeepEqual(sa.Has, sb.Has) {
 				t.Fatal("catalogue defaults simulate differently from the constructor's")
 			}
 		})
 	}
+}
+
+// sameFloats reports whether a and b hold the same values, NaN matching
+// NaN (a problem without truth has NaN truth).
+func sameFloats(a, b []float64) bool {
+	return slices.EqualFunc(a, b, func(x, y float64) bool { return x == y || (math.IsNaN(x) && math.IsNaN(y)) })
 }
 
 // Every pair of the problems suite either runs or says why not, in the
@@ -108,7 +116,7 @@ func TestNotApplicableNotes(t *testing.T) {
 		// radar-replay reads the shared AIS sample; without it, check the rest.
 		kept := s.Problems[:0]
 		for _, pc := range s.Problems {
-			if pc.Spec.Name != "radar-replay" {
+			if pc.Spec.Name != "radar-replay" && pc.Spec.Name != "track" {
 				kept = append(kept, pc)
 			}
 		}
@@ -124,7 +132,7 @@ func TestNotApplicableNotes(t *testing.T) {
 		seen[pc.Spec.Name] = true
 	}
 	for _, spec := range Builtin().Problems {
-		if !seen[spec.Name] && (spec.Name != "radar-replay" || replaySamplePresent(t)) {
+		if !seen[spec.Name] && ((spec.Name != "radar-replay" && spec.Name != "track") || replaySamplePresent(t)) {
 			t.Errorf("problems.toml does not run %s", spec.Name)
 		}
 	}
@@ -151,7 +159,7 @@ func TestNotApplicableNotes(t *testing.T) {
 		"pf stochvol":               "",
 	}
 	// Only these problems are linear (kf applies).
-	linear := map[string]bool{"cv2d": true, "heavytail": true, "stochvol(observe=logsq": true}
+	linear := map[string]bool{"cv2d": true, "heavytail": true, "stochvol(observe=logsq": true, "track": true}
 	for _, p := range out.Pairs {
 		name := p.Problem[:strings.IndexAny(p.Problem+"(", "(")]
 		if strings.Contains(p.Problem, "observe=logsq") {

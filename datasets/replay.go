@@ -353,15 +353,16 @@ func cvRangeBearingModel(t, m11, m12, m22 float64) filters.Model {
 	}
 }
 
-// replayFile returns the path of the recording: cfg's, or the default
-// sample found under shared/datasets in the current directory or a parent.
-func replayFile(file string) (string, error) {
+// recordingFile returns the path of the recording: file, or the default
+// sample ReplayDefaultFile found under shared/datasets in the current
+// directory or a parent. who names the problem in errors.
+func recordingFile(who, file string) (string, error) {
 	if file != "" {
 		return file, nil
 	}
 	wd, err := os.Getwd()
 	if err != nil {
-		return "", fmt.Errorf("datasets: radar-replay: no file given and the current directory is unknown: %v", err)
+		return "", fmt.Errorf("datasets: %s: no file given and the current directory is unknown: %v", who, err)
 	}
 	for dir := wd; ; {
 		if st, err := os.Stat(filepath.Join(dir, "shared", "datasets")); err == nil && st.IsDir() {
@@ -373,17 +374,24 @@ func replayFile(file string) (string, error) {
 		}
 		dir = up
 	}
-	return "", fmt.Errorf("datasets: radar-replay: no file given and no shared/datasets folder in %s or its parents; "+
-		"fetch the public dataset samples beside the project (the default is %s) or give a file: %w", wd, ReplayDefaultFile, fs.ErrNotExist)
+	return "", fmt.Errorf("datasets: %s: no file given and no shared/datasets folder in %s or its parents; "+
+		"fetch the public dataset samples beside the project (the default is %s) or give a file: %w", who, wd, ReplayDefaultFile, fs.ErrNotExist)
 }
 
 // replayTrack reads the recording and picks the track cfg names.
 func replayTrack(c RadarReplayConfig) (navlog.Track, error) {
-	path, err := replayFile(c.File)
+	return readTrack("radar-replay", c.File, c.Format, c.Track, c.MinPoints)
+}
+
+// readTrack reads a recording (file and format as in
+// RadarReplayConfig.File and Format) and picks the track sel names with at
+// least minPoints fixes (see RadarReplayConfig.Track). who names the
+// problem in errors.
+func readTrack(who, file, format, sel string, minPoints int) (navlog.Track, error) {
+	path, err := recordingFile(who, file)
 	if err != nil {
 		return navlog.Track{}, err
 	}
-	format := c.Format
 	if format == "" || format == "auto" {
 		switch strings.ToLower(filepath.Ext(path)) {
 		case ".csv":
@@ -393,15 +401,15 @@ func replayTrack(c RadarReplayConfig) (navlog.Track, error) {
 		case ".log", ".nmea", ".txt":
 			format = "nmea"
 		default:
-			return navlog.Track{}, fmt.Errorf("datasets: radar-replay: %s: cannot tell the format from the extension; give ais-csv, ais-nmea, gpx or nmea", path)
+			return navlog.Track{}, fmt.Errorf("datasets: %s: %s: cannot tell the format from the extension; give ais-csv, ais-nmea, gpx or nmea", who, path)
 		}
 	}
 	f, err := os.Open(path)
 	if err != nil {
-		if errors.Is(err, fs.ErrNotExist) && c.File == "" {
-			return navlog.Track{}, fmt.Errorf("datasets: radar-replay: the default sample %s is missing; fetch the public dataset samples or give a file: %w", path, err)
+		if errors.Is(err, fs.ErrNotExist) && file == "" {
+			return navlog.Track{}, fmt.Errorf("datasets: %s: the default sample %s is missing; fetch the public dataset samples or give a file: %w", who, path, err)
 		}
-		return navlog.Track{}, fmt.Errorf("datasets: radar-replay: %w", err)
+		return navlog.Track{}, fmt.Errorf("datasets: %s: %w", who, err)
 	}
 	defer f.Close()
 	name := filepath.Base(path)
@@ -427,24 +435,24 @@ func replayTrack(c RadarReplayConfig) (navlog.Track, error) {
 			tracks = []navlog.Track{tr}
 		}
 	default:
-		return navlog.Track{}, fmt.Errorf("datasets: radar-replay: Format must be auto, ais-csv, ais-nmea, gpx or nmea, got %q", format)
+		return navlog.Track{}, fmt.Errorf("datasets: %s: Format must be auto, ais-csv, ais-nmea, gpx or nmea, got %q", who, format)
 	}
 	if rerr != nil {
-		return navlog.Track{}, fmt.Errorf("datasets: radar-replay: %s: %v", path, rerr)
+		return navlog.Track{}, fmt.Errorf("datasets: %s: %s: %v", who, path, rerr)
 	}
-	return pickTrack(tracks, c.Track, c.MinPoints, path)
+	return pickTrack(who, tracks, sel, minPoints, path)
 }
 
 // pickTrack chooses the track sel names among tracks (see
 // RadarReplayConfig.Track).
-func pickTrack(tracks []navlog.Track, sel string, minPoints int, path string) (navlog.Track, error) {
+func pickTrack(who string, tracks []navlog.Track, sel string, minPoints int, path string) (navlog.Track, error) {
 	if n, ok := strings.CutPrefix(sel, "#"); ok {
 		i, err := strconv.Atoi(n)
 		if err != nil || i < 1 || i > len(tracks) {
-			return navlog.Track{}, fmt.Errorf("datasets: radar-replay: %s: track %q: the file has tracks #1 to #%d", path, sel, len(tracks))
+			return navlog.Track{}, fmt.Errorf("datasets: %s: %s: track %q: the file has tracks #1 to #%d", who, path, sel, len(tracks))
 		}
 		if len(tracks[i-1].Points) < minPoints {
-			return navlog.Track{}, fmt.Errorf("datasets: radar-replay: %s: track %s has %d fixes, fewer than %d", path, sel, len(tracks[i-1].Points), minPoints)
+			return navlog.Track{}, fmt.Errorf("datasets: %s: %s: track %s has %d fixes, fewer than %d", who, path, sel, len(tracks[i-1].Points), minPoints)
 		}
 		return tracks[i-1], nil
 	}
@@ -463,9 +471,9 @@ func pickTrack(tracks []navlog.Track, sel string, minPoints int, path string) (n
 	}
 	switch {
 	case sel != "" && !found:
-		return navlog.Track{}, fmt.Errorf("datasets: radar-replay: %s: no track with ID %q", path, sel)
+		return navlog.Track{}, fmt.Errorf("datasets: %s: %s: no track with ID %q", who, path, sel)
 	case best < 0:
-		return navlog.Track{}, fmt.Errorf("datasets: radar-replay: %s: no track %s has at least %d fixes", path, orAny(sel), minPoints)
+		return navlog.Track{}, fmt.Errorf("datasets: %s: %s: no track %s has at least %d fixes", who, path, orAny(sel), minPoints)
 	}
 	return tracks[best], nil
 }

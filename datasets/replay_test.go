@@ -356,7 +356,7 @@ func TestRadarReplayOtherSourcesAndErrors(t *testing.T) {
 // with no such parent the error names the folder and what to fetch.
 func TestRadarReplayDefaultFileLookup(t *testing.T) {
 	needReplaySample(t)
-	path, err := replayFile("")
+	path, err := recordingFile("radar-replay", "")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -365,7 +365,7 @@ func TestRadarReplayDefaultFileLookup(t *testing.T) {
 		t.Errorf("default file %s, want %s", path, want)
 	}
 	t.Chdir(t.TempDir())
-	_, err = replayFile("")
+	_, err = recordingFile("radar-replay", "")
 	if !errors.Is(err, fs.ErrNotExist) || !strings.Contains(err.Error(), ReplayDefaultFile) {
 		t.Errorf("no shared folder: %v", err)
 	}
