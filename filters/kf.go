@@ -535,26 +535,36 @@ func (c *linCore) diffJac(dst []float64, g func(dst, x []float64, k int), ny int
 	}
 }
 
-func (c *linCore) estimateTo(x, p []float64) {
-	if len(x) != c.nx || (p != nil && len(p) != c.nx*c.nx) {
+func (c *linCore) estimateTo(x, p []float64) { copyEstimate(x, p, c.x, c.p) }
+
+func (c *linCore) innovationTo(nu, s []float64) bool {
+	return copyInnovation(nu, s, c.nu, c.s, c.hasInnov)
+}
+
+// copyEstimate copies a filter's mean cx and covariance cp into the
+// caller's x and p (p may be nil), checking the sizes.
+func copyEstimate(x, p, cx, cp []float64) {
+	if len(x) != len(cx) || (p != nil && len(p) != len(cp)) {
 		panic("filters: dimension mismatch")
 	}
-	copy(x, c.x)
+	copy(x, cx)
 	if p != nil {
-		copy(p, c.p)
+		copy(p, cp)
 	}
 }
 
-func (c *linCore) innovationTo(nu, s []float64) bool {
-	if len(nu) != c.nz || (s != nil && len(s) != c.nz*c.nz) {
+// copyInnovation copies the last innovation cnu and its covariance cs into
+// nu and s (s may be nil) and reports has, the filter's "there was one".
+func copyInnovation(nu, s, cnu, cs []float64, has bool) bool {
+	if len(nu) != len(cnu) || (s != nil && len(s) != len(cs)) {
 		panic("filters: dimension mismatch")
 	}
-	if !c.hasInnov {
+	if !has {
 		return false
 	}
-	copy(nu, c.nu)
+	copy(nu, cnu)
 	if s != nil {
-		copy(s, c.s)
+		copy(s, cs)
 	}
 	return true
 }

@@ -296,26 +296,8 @@ func (c *spCore) update(z []float64, k int) error {
 	return nil
 }
 
-func (c *spCore) estimateTo(x, p []float64) {
-	if len(x) != c.nx || (p != nil && len(p) != c.nx*c.nx) {
-		panic("filters: dimension mismatch")
-	}
-	copy(x, c.x)
-	if p != nil {
-		copy(p, c.p)
-	}
-}
+func (c *spCore) estimateTo(x, p []float64) { copyEstimate(x, p, c.x, c.p) }
 
 func (c *spCore) innovationTo(nu, s []float64) bool {
-	if len(nu) != c.nz || (s != nil && len(s) != c.nz*c.nz) {
-		panic("filters: dimension mismatch")
-	}
-	if !c.hasInnov {
-		return false
-	}
-	copy(nu, c.nu)
-	if s != nil {
-		copy(s, c.s)
-	}
-	return true
+	return copyInnovation(nu, s, c.nu, c.s, c.hasInnov)
 }
