@@ -243,7 +243,7 @@ func builtinProblems() []ProblemSpec {
 				"with a simulated range-bearing sensor; RTS smoother: Rauch, Tung & Striebel 1965, AIAA J. 3(8)",
 			Params: []Param{
 				{Name: "steps", Kind: Int, Default: Value{Num: 0}, Doc: "number of time steps; 0 = the whole resampled track", Min: 0, Max: 1e7},
-				{Name: "file", Kind: String, Default: Value{Str: ""}, Doc: "recording to replay, relative to the current directory; empty = the shared AIS sample of New York Harbor"},
+				{Name: "file", Kind: String, Default: Value{Str: ""}, Doc: "recording to replay, relative to the current directory, or NAME:FILE for a file of a fetched public dataset (estbench data list); empty = the shared AIS sample of New York Harbor"},
 				{Name: "format", Kind: String, Default: Value{Str: "auto"}, Choices: []string{"auto", "ais-csv", "ais-nmea", "gpx", "nmea"},
 					Doc: "format of the file; auto follows the extension (.csv, .gpx, .log/.nmea/.txt)"},
 				{Name: "track", Kind: String, Default: Value{Str: ""}, Doc: "track ID (MMSI, GPX track name, NMEA talker) or #n; empty = the longest path"},
@@ -269,7 +269,7 @@ func builtinProblems() []ProblemSpec {
 				"two-point initialisation and CWNA model: Bar-Shalom, Li & Kirubarajan 2001, §5.5.3, §6.2.2",
 			Params: []Param{
 				{Name: "steps", Kind: Int, Default: Value{Num: 0}, Doc: "number of time steps; 0 = up to the last fix", Min: 0, Max: 1e7},
-				{Name: "file", Kind: String, Default: Value{Str: ""}, Doc: "recording, relative to the current directory; empty = the shared AIS sample of New York Harbor"},
+				{Name: "file", Kind: String, Default: Value{Str: ""}, Doc: "recording, relative to the current directory, or NAME:FILE for a file of a fetched public dataset (estbench data list); empty = the shared AIS sample of New York Harbor"},
 				{Name: "format", Kind: String, Default: Value{Str: "auto"}, Choices: []string{"auto", "ais-csv", "ais-nmea", "gpx", "nmea"},
 					Doc: "format of the file; auto follows the extension (.csv, .gpx, .log/.nmea/.txt)"},
 				{Name: "track", Kind: String, Default: Value{Str: ""}, Doc: "track ID (MMSI, GPX track name, NMEA talker) or #n; empty = the longest path"},

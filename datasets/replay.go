@@ -11,6 +11,7 @@ import (
 	"strconv"
 	"strings"
 
+	"github.com/estbench/estbench/datasets/fetch"
 	"github.com/estbench/estbench/datasets/geo"
 	"github.com/estbench/estbench/datasets/navlog"
 	"github.com/estbench/estbench/filters"
@@ -357,6 +358,11 @@ func cvRangeBearingModel(t, m11, m12, m22 float64) filters.Model {
 // sample ReplayDefaultFile found under shared/datasets in the current
 // directory or a parent. who names the problem in errors.
 func recordingFile(who, file string) (string, error) {
+	if name, rel, ok := strings.Cut(file, ":"); ok {
+		if _, known := fetch.Lookup(name); known {
+			return fetchedFile(who, name, rel)
+		}
+	}
 	if file != "" {
 		return file, nil
 	}
@@ -376,6 +382,21 @@ func recordingFile(who, file string) (string, error) {
 	}
 	return "", fmt.Errorf("datasets: %s: no file given and no shared/datasets folder in %s or its parents; "+
 		"fetch the public dataset samples beside the project (the default is %s) or give a file: %w", who, wd, ReplayDefaultFile, fs.ErrNotExist)
+}
+
+// fetchedFile resolves "NAME:PATH", a file of the public dataset NAME of
+// the fetch catalogue, to its place in the folder `estbench data fetch NAME`
+// downloads into. A file not there is an error saying what to fetch.
+func fetchedFile(who, name, rel string) (string, error) {
+	dir, err := fetch.DefaultDir(name)
+	if err != nil {
+		return "", fmt.Errorf("datasets: %s: %v", who, err)
+	}
+	path := filepath.Join(dir, filepath.FromSlash(rel))
+	if _, err := os.Stat(path); err != nil {
+		return "", fmt.Errorf("datasets: %s: %s:%s is not in %s: run `estbench data fetch %s` first: %w", who, name, rel, dir, name, fs.ErrNotExist)
+	}
+	return path, nil
 }
 
 // replayTrack reads the recording and picks the track cfg names.

@@ -1,12 +1,15 @@
 package datasets
 
 import (
+	"errors"
+	"io/fs"
 	"math"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 
+	"github.com/estbench/estbench/datasets/fetch"
 	"github.com/estbench/estbench/datasets/navlog"
 )
 
@@ -149,5 +152,47 @@ func TestTrackBadConfig(t *testing.T) {
 		if _, err := NewTrack(c.cfg); err == nil || !strings.Contains(err.Error(), c.want) {
 			t.Errorf("%+v: error %v, want one containing %q", c.cfg, err, c.want)
 		}
+	}
+}
+
+// A suite can name a file of a public dataset of the fetch catalogue as
+// "NAME:PATH". It is looked up where `estbench data fetch NAME` puts it;
+// when it is not there the error says what to fetch.
+func TestRecordingFileFromFetchCatalogue(t *testing.T) {
+	cache := t.TempDir()
+	t.Setenv("XDG_CACHE_HOME", cache) // os.UserCacheDir on Unix
+	t.Setenv("HOME", cache)           // and its fallback on macOS
+	_, err := readTrack("track", "gpxpy-tracks:around-visnjan-with-car.gpx", "", "", 15)
+	if err == nil || !strings.Contains(err.Error(), "run `estbench data fetch gpxpy-tracks` first") || !errors.Is(err, fs.ErrNotExist) {
+		t.Fatalf("missing fetched file: %v", err)
+	}
+	src := filepath.Join("..", "..", "shared", "datasets", "gpx-gpxpy-tracks", "around-visnjan-with-car.gpx")
+	data, err := os.ReadFile(src)
+	if err != nil {
+		if os.Getenv("CI") == "true" {
+			t.Fatalf("dataset sample %s is missing under CI: %v", src, err)
+		}
+		t.Skipf("dataset sample %s not found (shared datasets absent): %v", src, err)
+	}
+	dir, err := fetch.DefaultDir("gpxpy-tracks")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := os.MkdirAll(dir, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(filepath.Join(dir, "around-visnjan-with-car.gpx"), data, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	tr, err := readTrack("track", "gpxpy-tracks:around-visnjan-with-car.gpx", "", "", 15)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(tr.Points) != 104 { // SOURCE.md: the eTrex 20x drive has 104 points
+		t.Fatalf("%d points, want 104", len(tr.Points))
+	}
+	// A plain path that does not exist names the path.
+	if _, err := readTrack("track", "no/such/file.gpx", "", "", 2); err == nil || !strings.Contains(err.Error(), "no/such/file.gpx") {
+		t.Fatalf("missing path: %v", err)
 	}
 }
