@@ -111,18 +111,8 @@ func (c RadarReplayConfig) withDefaults() (RadarReplayConfig, error) {
 		return c, fmt.Errorf("datasets: radar-replay: SigmaR must be a positive finite standard deviation, got %v", c.SigmaR)
 	case !positive(c.SigmaTheta) || c.SigmaTheta > math.Pi:
 		return c, fmt.Errorf("datasets: radar-replay: SigmaTheta must be a standard deviation in (0, π] rad, got %v", c.SigmaTheta)
-	case !positive(c.Dt):
-		return c, fmt.Errorf("datasets: radar-replay: Dt must be a positive finite number of seconds, got %v", c.Dt)
-	case c.Steps < 0:
-		return c, fmt.Errorf("datasets: radar-replay: Steps must not be negative, got %d", c.Steps)
-	case c.Motion != "cv" && c.Motion != "ct":
-		return c, fmt.Errorf("datasets: radar-replay: Motion must be cv or ct, got %q", c.Motion)
-	case !positive(c.Q):
-		return c, fmt.Errorf("datasets: radar-replay: Q must be a positive finite noise intensity, got %v", c.Q)
-	case !positive(c.Q2):
-		return c, fmt.Errorf("datasets: radar-replay: Q2 must be a positive finite noise intensity, got %v", c.Q2)
 	}
-	return c, nil
+	return c, checkTrackMotion("radar-replay", c.Dt, c.Steps, c.Motion, c.Q, c.Q2)
 }
 
 // NewRadarReplay returns the problem "radar-replay": a real vessel's (or
@@ -382,6 +372,24 @@ func recordingFile(who, file string) (string, error) {
 	}
 	return "", fmt.Errorf("datasets: %s: no file given and no shared/datasets folder in %s or its parents; "+
 		"fetch the public dataset samples beside the project (the default is %s) or give a file: %w", who, wd, ReplayDefaultFile, fs.ErrNotExist)
+}
+
+// checkTrackMotion checks the step and motion-model settings that the
+// problems built from recorded tracks (radar-replay, track) share.
+func checkTrackMotion(who string, dt float64, steps int, motion string, q, q2 float64) error {
+	switch {
+	case !positive(dt):
+		return fmt.Errorf("datasets: %s: Dt must be a positive finite number of seconds, got %v", who, dt)
+	case steps < 0:
+		return fmt.Errorf("datasets: %s: Steps must not be negative, got %d", who, steps)
+	case motion != "cv" && motion != "ct":
+		return fmt.Errorf("datasets: %s: Motion must be cv or ct, got %q", who, motion)
+	case !positive(q):
+		return fmt.Errorf("datasets: %s: Q must be a positive finite noise intensity, got %v", who, q)
+	case !positive(q2):
+		return fmt.Errorf("datasets: %s: Q2 must be a positive finite noise intensity, got %v", who, q2)
+	}
+	return nil
 }
 
 // fetchedFile resolves "NAME:PATH", a file of the public dataset NAME of

@@ -62,18 +62,8 @@ func (c TrackConfig) withDefaults() (TrackConfig, error) {
 		return c, fmt.Errorf("datasets: track: MinPoints must be at least 3, got %d", c.MinPoints)
 	case !positive(c.Sigma):
 		return c, fmt.Errorf("datasets: track: Sigma must be a positive finite standard deviation, got %v", c.Sigma)
-	case !positive(c.Dt):
-		return c, fmt.Errorf("datasets: track: Dt must be a positive finite number of seconds, got %v", c.Dt)
-	case c.Steps < 0:
-		return c, fmt.Errorf("datasets: track: Steps must not be negative, got %d", c.Steps)
-	case c.Motion != "cv" && c.Motion != "ct":
-		return c, fmt.Errorf("datasets: track: Motion must be cv or ct, got %q", c.Motion)
-	case !positive(c.Q):
-		return c, fmt.Errorf("datasets: track: Q must be a positive finite noise intensity, got %v", c.Q)
-	case !positive(c.Q2):
-		return c, fmt.Errorf("datasets: track: Q2 must be a positive finite noise intensity, got %v", c.Q2)
 	}
-	return c, nil
+	return c, checkTrackMotion("track", c.Dt, c.Steps, c.Motion, c.Q, c.Q2)
 }
 
 // NewTrack returns the problem "track": the recorded fixes of a real track
