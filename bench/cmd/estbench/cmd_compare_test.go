@@ -10,6 +10,7 @@ import (
 	"testing"
 
 	"github.com/estbench/estbench/bench"
+	"github.com/estbench/estbench/bench/cli"
 	"github.com/estbench/estbench/filters"
 	"github.com/estbench/estbench/metrics"
 	"github.com/estbench/estbench/results"
@@ -69,7 +70,7 @@ func runTo(t *testing.T, dir, text string, seed uint64, cat *bench.Catalogue) {
 	if err := rw.Close(); err != nil {
 		t.Fatal(err)
 	}
-	if err := results.WriteSummaryParquet(filepath.Join(dir, "summary.parquet"), summaryRows(out)); err != nil {
+	if err := results.WriteSummaryParquet(filepath.Join(dir, "summary.parquet"), cli.SummaryRows(out)); err != nil {
 		t.Fatal(err)
 	}
 	man := results.CollectEnvironment()

@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"time"
 
@@ -54,7 +55,7 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 		fmt.Fprintf(stderr, "estbench run: unexpected argument %q\n", fs.Arg(0))
 		return exitUsage
 	}
-	if !validFormat(*format) {
+	if !slices.Contains(results.Formats, *format) {
 		fmt.Fprintf(stderr, "estbench run: unknown format %q%s; valid: %s\n", *format, didYouMean(*format, results.Formats), strings.Join(results.Formats, ", "))
 		return exitUsage
 	}
@@ -130,16 +131,4 @@ func cmdRun(args []string, stdout, stderr io.Writer) int {
 	}
 	fmt.Fprintf(stderr, "estbench: results in %s\n", dir)
 	return exitOK
-}
-
-// summaryRows turns an outcome into summary rows (cli.SummaryRows).
-func summaryRows(out *bench.Outcome) []results.SummaryRow { return cli.SummaryRows(out) }
-
-func validFormat(f string) bool {
-	for _, v := range results.Formats {
-		if v == f {
-			return true
-		}
-	}
-	return false
 }
