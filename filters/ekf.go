@@ -39,6 +39,15 @@ const DefaultEKFStep = 1e-6
 // (EKFConfig.Step, default 1e-6), with the differences of angle outputs
 // wrapped; this costs 2*Nx calls of F or H per step.
 //
+// State on a manifold (Model.Manifold): the EKF is then the error-state,
+// or multiplicative, EKF of Markley 2003 ("Attitude error representations
+// for Kalman filtering", J. Guidance, Control, and Dynamics 26(2)) for a
+// unit-quaternion attitude: P is the covariance of the tangent error δ,
+// A and C are the model's tangent Jacobians (FJac, HJac, both required),
+// the prediction is x = F(x), and the update computes δ = K ν and moves
+// the estimate to x ⊞ δ, which resets the error to zero (the reset's
+// effect on P, of second order in δ, is neglected as in Markley 2003).
+//
 // On a linear model the EKF is the Kalman filter. It needs additive noise
 // (NewEKF refuses a model with FW or HV). It implements Filter, Innovator
 // and Repairer (jitter repair of S as in UKFConfig, off by default).
@@ -59,6 +68,9 @@ func NewEKF(m *Model, cfg EKFConfig) (*EKF, error) {
 	}
 	if !m.Additive() {
 		return nil, errors.New("filters: ekf needs additive noise (the model has FW or HV)")
+	}
+	if m.Manifold != nil && (m.FJac == nil || m.HJac == nil) {
+		return nil, errors.New("filters: ekf on a state manifold needs the model's FJac and HJac (tangent Jacobians)")
 	}
 	jit, err := newJitter("ekf", cfg.Jitter, cfg.JitterMax)
 	if err != nil {

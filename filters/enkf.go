@@ -100,6 +100,9 @@ var (
 // out of range or the measurement noise of m is not additive.
 func NewEnKF(m *Model, cfg EnKFConfig) (*EnKF, error) {
 	m.check()
+	if m.Manifold != nil {
+		return nil, ErrManifold
+	}
 	if m.HV != nil {
 		return nil, errors.New("filters: enkf: needs additive measurement noise; the model's enters through HV")
 	}

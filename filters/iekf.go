@@ -75,6 +75,9 @@ type IEKF struct {
 // NewIEKF returns an iterated extended Kalman filter for m.
 func NewIEKF(m *Model, cfg IEKFConfig) (*IEKF, error) {
 	m.check()
+	if m.Manifold != nil {
+		return nil, ErrManifold
+	}
 	checkAngles(m)
 	maxIter, tol, step := cfg.MaxIter, cfg.Tol, cfg.Step
 	if maxIter == 0 {

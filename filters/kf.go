@@ -41,6 +41,9 @@ type KF struct {
 // NewKF returns a Kalman filter for m. It fails if m.Linear is false.
 func NewKF(m *Model, cfg KFConfig) (*KF, error) {
 	m.check()
+	if m.Manifold != nil {
+		return nil, ErrManifold
+	}
 	checkAngles(m)
 	if !m.Linear {
 		return nil, errors.New("filters: kf needs a linear model (Model.Linear is false)")
@@ -106,11 +109,11 @@ func checkAngles(m *Model) {
 // prediction and Joseph-form update, differing only in where the Jacobians
 // are taken when they must be found by differences.
 type linCore struct {
-	m      *Model
-	nx, nz int
+	m          *Model
+	nx, nz, nd int // nd: covariance dimension (Model.Nd)
 
 	x []float64 // mean (nx)
-	p []float64 // covariance (nx*nx)
+	p []float64 // covariance (nd*nd)
 
 	// Jacobian policy for nil FJac/HJac: central differences with step
 	// h_i = step*max(1,|x_i|) about x, or, if atOrigin, step about 0.
@@ -127,18 +130,19 @@ type linCore struct {
 	loglik   float64 // accumulated innovation log-likelihood since Reset
 
 	// workspace, sized at set-up, reused every step
-	a    []float64 // transition Jacobian A (nx*nx)
-	cj   []float64 // measurement Jacobian C (nz*nx)
+	a    []float64 // transition Jacobian A (nd*nd)
+	cj   []float64 // measurement Jacobian C (nz*nd)
 	fx   []float64 // F(x) (nx)
-	ap   []float64 // A P in Predict, I − K C in Update (nx*nx)
+	ap   []float64 // A P in Predict, I − K C in Update (nd*nd)
 	zhat []float64 // predicted measurement H(x) (nz)
 	nu   []float64 // innovation z - zhat, angles wrapped (nz)
 	s    []float64 // innovation covariance S = C P Cᵀ + R (nz*nz)
 	l    []float64 // lower Cholesky factor of S (nz*nz)
-	pct  []float64 // cross covariance P Cᵀ (nx*nz)
-	k    []float64 // gain K (nx*nz)
-	tmp  []float64 // (I − K C) P, then K R Kᵀ (nx*nx)
-	kr   []float64 // K R (nx*nz)
+	pct  []float64 // cross covariance P Cᵀ (nd*nz)
+	k    []float64 // gain K (nd*nz)
+	tmp  []float64 // (I − K C) P, then K R Kᵀ (nd*nd)
+	kr   []float64 // K R (nd*nz)
+	dx   []float64 // K ν, the tangent correction on a manifold (nd)
 	w    []float64 // L⁻¹ ν for the likelihood (nz)
 	xt   []float64 // perturbed point for differences (nx)
 	dp   []float64 // function value at x + h (max(nx,nz))
@@ -146,22 +150,23 @@ type linCore struct {
 }
 
 func (c *linCore) init(m *Model) {
-	nx, nz := m.Nx, m.Nz
-	c.m, c.nx, c.nz = m, nx, nz
+	nx, nz, nd := m.Nx, m.Nz, m.Nd()
+	c.m, c.nx, c.nz, c.nd = m, nx, nz, nd
 	c.x = make([]float64, nx)
-	c.p = make([]float64, nx*nx)
-	c.a = make([]float64, nx*nx)
-	c.cj = make([]float64, nz*nx)
+	c.p = make([]float64, nd*nd)
+	c.a = make([]float64, nd*nd)
+	c.cj = make([]float64, nz*nd)
 	c.fx = make([]float64, nx)
-	c.ap = make([]float64, nx*nx)
+	c.ap = make([]float64, nd*nd)
 	c.zhat = make([]float64, nz)
 	c.nu = make([]float64, nz)
 	c.s = make([]float64, nz*nz)
 	c.l = make([]float64, nz*nz)
-	c.pct = make([]float64, nx*nz)
-	c.k = make([]float64, nx*nz)
-	c.tmp = make([]float64, nx*nx)
-	c.kr = make([]float64, nx*nz)
+	c.pct = make([]float64, nd*nz)
+	c.k = make([]float64, nd*nz)
+	c.tmp = make([]float64, nd*nd)
+	c.kr = make([]float64, nd*nz)
+	c.dx = make([]float64, nd)
 	c.w = make([]float64, nz)
 	c.xt = make([]float64, nx)
 	c.dp = make([]float64, max(nx, nz))
@@ -169,12 +174,12 @@ func (c *linCore) init(m *Model) {
 }
 
 func (c *linCore) reset(x0, p0 []float64) error {
-	if len(x0) != c.nx || len(p0) != c.nx*c.nx {
+	if len(x0) != c.nx || len(p0) != c.nd*c.nd {
 		panic("filters: dimension mismatch")
 	}
 	copy(c.x, x0)
 	copy(c.p, p0)
-	symmetrize(c.p, c.nx) // the steps rely on an exactly symmetric P
+	symmetrize(c.p, c.nd) // the steps rely on an exactly symmetric P
 	c.hasInnov = false
 	c.loglik = 0
 	c.jit.repairs = 0
@@ -185,7 +190,7 @@ func (c *linCore) reset(x0, p0 []float64) error {
 }
 
 func (c *linCore) predict(k int) error {
-	nx := c.nx
+	nx, nd := c.nx, c.nd
 	c.hasInnov = false
 	if c.m.FJac != nil {
 		c.m.FJac(c.a, c.x, k)
@@ -201,9 +206,9 @@ func (c *linCore) predict(k int) error {
 	}
 	// A P = A Pᵀ (P is kept exactly symmetric), then the upper triangle
 	// of (A P) Aᵀ, completed with Q and symmetrized in one pass.
-	abt(c.ap, c.a, c.p, nx, nx, nx, false)
-	abtUpper(c.p, c.ap, c.a, nx, nx, nx, true)
-	if !finishSym(c.p, c.m.Q, nx) || !allFinite(c.x) {
+	abt(c.ap, c.a, c.p, nd, nd, nd, false)
+	abtUpper(c.p, c.ap, c.a, nd, nd, nd, true)
+	if !finishSym(c.p, c.m.Q, nd) || !allFinite(c.x) {
 		return ErrNonFinite
 	}
 	return nil
@@ -214,7 +219,7 @@ func (c *linCore) update(z []float64, k int) error {
 	if z == nil {
 		return nil
 	}
-	nx, nz := c.nx, c.nz
+	nd, nz := c.nd, c.nz
 	if len(z) != nz {
 		panic("filters: dimension mismatch")
 	}
@@ -235,14 +240,23 @@ func (c *linCore) update(z []float64, k int) error {
 		return ErrNotPosDef
 	}
 
-	// x += K ν
-	for i := 0; i < nx; i++ {
+	// x += K ν, or x = x ⊞ K ν on a manifold
+	mf := c.m.Manifold
+	for i := 0; i < nd; i++ {
 		ki := c.k[i*nz : i*nz+nz]
 		var d float64
 		for j, kv := range ki {
 			d += kv * c.nu[j]
 		}
+		if mf != nil {
+			c.dx[i] = d
+			continue
+		}
 		c.x[i] += d
+	}
+	if mf != nil {
+		mf.Plus(c.fx, c.x, c.dx)
+		copy(c.x, c.fx)
 	}
 	if c.wrapState {
 		for _, i := range c.m.AngleState {
@@ -265,7 +279,7 @@ func (c *linCore) update(z []float64, k int) error {
 // if on) and K = P Cᵀ S⁻¹ from c.cj and c.p. It reports false if S is not
 // positive definite.
 func (c *linCore) gain() bool {
-	nx, nz := c.nx, c.nz
+	nx, nz := c.nd, c.nz
 	abt(c.pct, c.p, c.cj, nx, nx, nz, false)
 	mulDot(c.s, c.cj, c.pct, nz, nx, nz)
 	s, r := c.s[:nz*nz], c.m.R[:nz*nz]
@@ -289,7 +303,7 @@ func (c *linCore) gain() bool {
 // that when K C P nearly cancels P, as for a measurement far more precise
 // than the prediction.)
 func (c *linCore) joseph() {
-	nx, nz := c.nx, c.nz
+	nx, nz := c.nd, c.nz
 	// A = I − K C in ap, in one pass.
 	k, cj, a := c.k[:nx*nz], c.cj[:nz*nx], c.ap[:nx*nx]
 	for i := 0; nz == 2 && i < nx; i++ { // the same sums, unrolled

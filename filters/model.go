@@ -64,12 +64,53 @@ type Model struct {
 	// AngleState lists state components that are angles; state residuals of
 	// these components are wrapped to (-pi, pi].
 	AngleState []int
+
+	// Manifold, if not nil, says the state is not a vector space (a unit
+	// quaternion, say) and how to move on it; see Manifold. Filters that
+	// support it (ekf, ukf, ckf, ghkf) work on the tangent error; the
+	// others refuse such a model.
+	Manifold *Manifold
+}
+
+// Manifold describes a state that lies on a manifold of dimension Dim,
+// stored in Nx numbers (a unit quaternion: Dim 3 stored in 4), by the two
+// maps between the manifold and its tangent spaces (the ⊞ and ⊟ of
+// Hertzberg, Wagner, Frese & Schröder 2013, "Integrating generic sensor
+// fusion algorithms with sound state representations through
+// encapsulation of manifolds", Information Fusion 14(1), §3). On a model
+// with a Manifold:
+//
+//   - covariances (the prior, Q, every estimate) are Dim*Dim, of the
+//     tangent error δ in x_true = x_est ⊞ δ;
+//   - the noise is additive in the tangent: x_k = F(x_{k-1}, k) ⊞ w_k,
+//     w_k ~ N(0, Q);
+//   - FJac is the Dim*Dim Jacobian of the tangent error,
+//     F(x ⊞ δ) ⊟ F(x) ≈ A δ, and HJac the Nz*Dim Jacobian
+//     H(x ⊞ δ) − H(x) ≈ C δ;
+//   - AngleState must be empty, and FW and HV nil.
+type Manifold struct {
+	Dim int // tangent dimension, less than or equal to Nx
+	// Plus writes x ⊞ d into dst (len Nx) for a tangent vector d (len Dim).
+	Plus func(dst, x, d []float64)
+	// Minus writes y ⊟ x into dst (len Dim): the tangent vector d with
+	// x ⊞ d = y. Minus(x, x) is zero.
+	Minus func(dst, y, x []float64)
+}
+
+// Nd returns the dimension of the state's covariance: Manifold.Dim on a
+// model with a Manifold, Nx otherwise.
+func (m *Model) Nd() int {
+	if m.Manifold != nil {
+		return m.Manifold.Dim
+	}
+	return m.Nx
 }
 
 // Filter is the contract every estimator satisfies. See the package
 // documentation for the meaning of each step.
 type Filter interface {
-	// Reset starts a new run from prior mean x0 and covariance p0 (Nx*Nx).
+	// Reset starts a new run from prior mean x0 and covariance p0 (Nd*Nd,
+	// that is Nx*Nx unless the model has a Manifold).
 	// The inputs are copied; rng is kept for the run (nil if unused).
 	Reset(x0, p0 []float64, rng *rand.Rand) error
 	// Predict propagates the estimate to step k.
@@ -77,7 +118,7 @@ type Filter interface {
 	// Update conditions on the measurement z of step k; z == nil skips it.
 	Update(z []float64, k int) error
 	// EstimateTo copies the mean into x (len Nx) and, if p is not nil, the
-	// covariance into p (len Nx*Nx).
+	// covariance into p (len Nd*Nd).
 	EstimateTo(x, p []float64)
 }
 
@@ -122,7 +163,21 @@ func (m *Model) check() {
 	if m.HV != nil {
 		nv = m.Nv
 	}
+	if m.Manifold != nil {
+		mf := m.Manifold
+		if mf.Dim <= 0 || mf.Dim > m.Nx || mf.Plus == nil || mf.Minus == nil {
+			panic("filters: model Manifold needs 0 < Dim <= Nx, Plus and Minus")
+		}
+		if len(m.AngleState) > 0 || !m.Additive() {
+			panic("filters: a model with a Manifold has no AngleState, FW or HV")
+		}
+		nw = mf.Dim
+	}
 	if len(m.Q) != nw*nw || len(m.R) != nv*nv {
 		panic("filters: model Q or R has the wrong size")
 	}
 }
+
+// ErrManifold is returned by the constructors of filters that do not
+// support a state on a manifold (Model.Manifold).
+var ErrManifold = errors.New("filters: this filter does not support a state on a manifold (Model.Manifold)")

@@ -160,6 +160,9 @@ func NewPF(m *Model, cfg PFConfig) (*PF, error) {
 
 func newPF(m *Model, cfg PFConfig, name string) (*PF, error) {
 	m.check()
+	if m.Manifold != nil {
+		return nil, ErrManifold
+	}
 	n := cfg.Particles
 	if n == 0 {
 		n = DefaultPFParticles

@@ -1,10 +1,13 @@
 package filters
 
+import "errors"
+
 // spCore is the sigma-point Gaussian filter shared by UKF, CKF and GHKF;
 // they differ in the point set only. See UKF for the algorithm.
 type spCore struct {
-	m      *Model
-	nx, nz int
+	m          *Model
+	nx, nz, nd int // nd: covariance dimension (Model.Nd)
+	mf         *Manifold
 
 	// Noise augmentation: Predict draws points of [x; w] (dimension nx+nw)
 	// and Update of [x; v] (nx+nv) when set. A model with additive noise
@@ -16,29 +19,34 @@ type spCore struct {
 	jit    jitter
 
 	x []float64 // mean (nx)
-	p []float64 // covariance (nx*nx)
+	p []float64 // covariance (nd*nd)
 
 	hasInnov bool // the last Update had a measurement and succeeded
 
 	// workspace, sized at set-up, reused every step
 	lw   []float64 // lower square root of Q, nw x nw, set at Reset (augW)
 	lv   []float64 // lower square root of R, nv x nv, set at Reset (augV)
-	l    []float64 // Cholesky factor of P (nx*nx)
+	l    []float64 // Cholesky factor of P (nd*nd)
 	la   []float64 // diag(L, lw or lv), na x na (augmented steps only)
 	dxT  []float64 // deviations L uᵢ of the points, transposed: na x np
-	pts  []float64 // sigma points, np x na
+	pts  []float64 // sigma points, np x na (np x nx on a manifold)
 	ys   []float64 // propagated points, np x nx
 	zs   []float64 // point measurements, np x nz
-	dt   []float64 // deviations from a mean, transposed: max(nx,nz) x np
-	e    []float64 // dxᵢ − K dzᵢ, transposed: nx x np
+	dt   []float64 // deviations from a mean, transposed: max(nd,nz) x np
+	e    []float64 // dxᵢ − K dzᵢ, transposed: nd x np
 	zhat []float64 // predicted measurement (nz)
 	nu   []float64 // innovation, angles wrapped (nz)
 	s    []float64 // innovation covariance S (nz*nz)
 	ls   []float64 // Cholesky factor of S (nz*nz)
-	pxz  []float64 // cross covariance Pxz (nx*nz)
-	k    []float64 // gain K (nx*nz)
-	kr   []float64 // K R (nx*nz)
-	krk  []float64 // K R Kᵀ (nx*nx)
+	pxz  []float64 // cross covariance Pxz (nd*nz)
+	k    []float64 // gain K (nd*nz)
+	kr   []float64 // K R (nd*nz)
+	krk  []float64 // K R Kᵀ (nd*nd)
+
+	// on a manifold only
+	ds   []float64 // tangent deviations of the propagated points, np x nd
+	dbar []float64 // their weighted mean (nd)
+	xa   []float64 // a state (nx)
 }
 
 // setSets is a constructor of the point set for dimension n.
@@ -47,8 +55,14 @@ type setMaker func(n int) (sigmaSet, error)
 // init sizes the core for m with the sets made by mk; augment forces the
 // augmented form for additive noise as well.
 func (c *spCore) init(m *Model, mk setMaker, augment bool, jit jitter) error {
-	nx, nz := m.Nx, m.Nz
-	c.m, c.nx, c.nz, c.jit = m, nx, nz, jit
+	nz := m.Nz
+	if m.Manifold != nil && augment {
+		return errors.New("Augment is not supported for a state on a manifold (Model.Manifold)")
+	}
+	// The points live in the covariance's (tangent) space: below, nx is
+	// the dimension of the sigma sets, and c.nx that of the stored state.
+	nx := m.Nd()
+	c.m, c.nx, c.nz, c.nd, c.jit, c.mf = m, m.Nx, nz, nx, jit, m.Manifold
 	c.augW = m.FW != nil || augment
 	c.augV = m.HV != nil || augment
 	np, na := nx, nx
@@ -79,15 +93,15 @@ func (c *spCore) init(m *Model, mk setMaker, augment bool, jit jitter) error {
 	rows := max(nx, nz)
 	c.sp.reserve(rows)
 	c.su.reserve(rows)
-	c.x = make([]float64, nx)
+	c.x = make([]float64, c.nx)
 	c.p = make([]float64, nx*nx)
 	c.lw = make([]float64, c.nw*c.nw)
 	c.lv = make([]float64, c.nv*c.nv)
 	c.l = make([]float64, nx*nx)
 	c.la = make([]float64, na*na)
 	c.dxT = make([]float64, na*np)
-	c.pts = make([]float64, np*na)
-	c.ys = make([]float64, np*nx)
+	c.pts = make([]float64, np*max(na, c.nx))
+	c.ys = make([]float64, np*c.nx)
 	c.zs = make([]float64, np*nz)
 	c.dt = make([]float64, rows*np)
 	c.e = make([]float64, nx*np)
@@ -99,16 +113,21 @@ func (c *spCore) init(m *Model, mk setMaker, augment bool, jit jitter) error {
 	c.k = make([]float64, nx*nz)
 	c.kr = make([]float64, nx*nz)
 	c.krk = make([]float64, nx*nx)
+	if c.mf != nil {
+		c.ds = make([]float64, np*nx)
+		c.dbar = make([]float64, nx)
+		c.xa = make([]float64, c.nx)
+	}
 	return nil
 }
 
 func (c *spCore) reset(x0, p0 []float64) error {
-	if len(x0) != c.nx || len(p0) != c.nx*c.nx {
+	if len(x0) != c.nx || len(p0) != c.nd*c.nd {
 		panic("filters: dimension mismatch")
 	}
 	copy(c.x, x0)
 	copy(c.p, p0)
-	symmetrize(c.p, c.nx)
+	symmetrize(c.p, c.nd)
 	c.hasInnov = false
 	c.jit.repairs = 0
 	if !allFinite(c.x) || !allFinite(c.p) {
@@ -127,7 +146,7 @@ func (c *spCore) reset(x0, p0 []float64) error {
 // set s into c.pts and their deviations into c.dxT; with aug, the state is
 // augmented by noise of square root lq (nq x nq).
 func (c *spCore) draw(s *sigmaSet, aug bool, lq []float64, nq int) bool {
-	nx := c.nx
+	nx := c.nd
 	if !c.jit.chol(c.l, c.p, nx) {
 		return false
 	}
@@ -146,12 +165,57 @@ func (c *spCore) draw(s *sigmaSet, aug bool, lq []float64, nq int) bool {
 		}
 	}
 	s.devTo(c.dxT, la)
+	if c.mf != nil {
+		c.manifoldPoints(s)
+		return true
+	}
 	s.pointsTo(c.pts, c.x, c.dxT)
 	return true
 }
 
+// manifoldPoints writes the points x ⊞ dᵢ of the deviations in c.dxT into
+// c.pts (np x Nx).
+func (c *spCore) manifoldPoints(s *sigmaSet) {
+	nx, nd, np := c.nx, c.nd, s.np
+	for i := 0; i < np; i++ {
+		d := c.dbar[:nd]
+		for r := range d {
+			d[r] = c.dxT[r*np+i]
+		}
+		c.mf.Plus(c.pts[i*nx:(i+1)*nx], c.x, d)
+	}
+}
+
+// manifoldMean sets c.x to the weighted mean of the propagated points
+// c.ys (np x Nx) on the manifold and c.dt to their tangent deviations
+// about it, transposed (nd x np). The mean starts at the first point (the
+// central one for sets that have it) and takes two Gauss–Newton steps
+// x ← x ⊞ Σ Wmᵢ (yᵢ ⊟ x) of the weighted Karcher mean (Hauberg, Lauze &
+// Pedersen 2013, "Unscented Kalman filtering on Riemannian manifolds",
+// J. Math. Imaging and Vision 46(1), §3): on a vector space with
+// ⊞ = + the first step gives the ordinary weighted mean exactly.
+func (c *spCore) manifoldMean(s *sigmaSet) {
+	nx, nd, np := c.nx, c.nd, s.np
+	copy(c.x, c.ys[:nx])
+	for it := 0; it < 2; it++ {
+		for i := 0; i < np; i++ {
+			c.mf.Minus(c.ds[i*nd:(i+1)*nd], c.ys[i*nx:(i+1)*nx], c.x)
+		}
+		s.mean(c.dbar, c.ds, nd, nil)
+		c.mf.Plus(c.xa, c.x, c.dbar)
+		copy(c.x, c.xa)
+	}
+	for i := 0; i < np; i++ {
+		c.mf.Minus(c.ds[i*nd:(i+1)*nd], c.ys[i*nx:(i+1)*nx], c.x)
+	}
+	for j := range c.dbar {
+		c.dbar[j] = 0
+	}
+	s.deviate(c.dt, c.ds, c.dbar, nd, nil)
+}
+
 func (c *spCore) predict(k int) error {
-	nx := c.nx
+	nx, nd := c.nx, c.nd
 	s := &c.sp
 	c.hasInnov = false
 	if !c.draw(s, c.augW, c.lw, c.nw) {
@@ -179,13 +243,17 @@ func (c *spCore) predict(k int) error {
 			m.F(c.ys[i*nx:(i+1)*nx], c.pts[i*nx:(i+1)*nx], k)
 		}
 	}
-	s.mean(c.x, c.ys, nx, m.AngleState)
-	s.deviate(c.dt, c.ys, c.x, nx, m.AngleState)
+	if c.mf != nil {
+		c.manifoldMean(s)
+	} else {
+		s.mean(c.x, c.ys, nx, m.AngleState)
+		s.deviate(c.dt, c.ys, c.x, nx, m.AngleState)
+	}
 	q := m.Q
 	if c.augW {
 		q = nil
 	}
-	if !s.covAdd(c.p, c.dt, q, nx) || !allFinite(c.x) {
+	if !s.covAdd(c.p, c.dt, q, nd) || !allFinite(c.x) {
 		return ErrNonFinite
 	}
 	return nil
@@ -196,7 +264,7 @@ func (c *spCore) update(z []float64, k int) error {
 	if z == nil {
 		return nil
 	}
-	nx, nz := c.nx, c.nz
+	nx, nz, nd := c.nx, c.nz, c.nd
 	if len(z) != nz {
 		panic("filters: dimension mismatch")
 	}
@@ -212,12 +280,12 @@ func (c *spCore) update(z []float64, k int) error {
 		for i := 0; i < np; i++ {
 			pt, y := c.pts[i*na:i*na+na], c.zs[i*nz:i*nz+nz]
 			if m.HV != nil {
-				m.HV(y, pt[:nx], pt[nx:], k)
+				m.HV(y, pt[:nd], pt[nd:], k)
 				continue
 			}
-			m.H(y, pt[:nx], k)
+			m.H(y, pt[:nd], k)
 			for j := range y {
-				y[j] += pt[nx+j]
+				y[j] += pt[nd+j]
 			}
 		}
 	case m.HMany != nil:
@@ -237,10 +305,10 @@ func (c *spCore) update(z []float64, k int) error {
 	if !c.jit.chol(c.ls, c.s, nz) {
 		return ErrNotPosDef
 	}
-	// The state rows of the deviations are the first nx rows of dxT.
-	s.cross(c.pxz, c.dxT, c.dt, nx, nz)
+	// The state rows of the deviations are the first nd rows of dxT.
+	s.cross(c.pxz, c.dxT, c.dt, nd, nz)
 	copy(c.k, c.pxz)
-	cholSolveRowsT(c.ls, c.k, nx, nz)
+	cholSolveRowsT(c.ls, c.k, nd, nz)
 
 	for i := range c.nu {
 		c.nu[i] = z[i] - c.zhat[i]
@@ -248,13 +316,21 @@ func (c *spCore) update(z []float64, k int) error {
 	for _, i := range m.AngleMeas {
 		c.nu[i] = wrapAngle(c.nu[i])
 	}
-	for i := 0; i < nx; i++ {
+	for i := 0; i < nd; i++ {
 		ki := c.k[i*nz : i*nz+nz]
 		var d float64
 		for j, kv := range ki {
 			d += kv * c.nu[j]
 		}
+		if c.mf != nil {
+			c.dbar[i] = d
+			continue
+		}
 		c.x[i] += d
+	}
+	if c.mf != nil { // x ⊞ K ν
+		c.mf.Plus(c.xa, c.x, c.dbar)
+		copy(c.x, c.xa)
 	}
 	for _, i := range m.AngleState {
 		c.x[i] = wrapAngle(c.x[i])
@@ -263,7 +339,7 @@ func (c *spCore) update(z []float64, k int) error {
 	// Joseph form for sigma points: P = Σ Wcᵢ eᵢ eᵢᵀ + K R Kᵀ with
 	// eᵢ = dxᵢ − K dzᵢ (K R Kᵀ is inside the sum when v is augmented).
 	dt := c.dt[:nz*np]
-	for r := 0; nz == 2 && r < nx; r++ { // the same sums, unrolled
+	for r := 0; nz == 2 && r < nd; r++ { // the same sums, unrolled
 		k0, k1 := c.k[r*2], c.k[r*2+1]
 		dx := c.dxT[r*np : r*np+np]
 		er := c.e[r*np : r*np+np][:len(dx)]
@@ -272,7 +348,7 @@ func (c *spCore) update(z []float64, k int) error {
 			er[i] = (v - k0*dz0[i]) - k1*dz1[i]
 		}
 	}
-	for r := 0; nz != 2 && r < nx; r++ {
+	for r := 0; nz != 2 && r < nd; r++ {
 		kr := c.k[r*nz : r*nz+nz]
 		dx := c.dxT[r*np : r*np+np]
 		er := c.e[r*np : r*np+np][:len(dx)]
@@ -285,11 +361,11 @@ func (c *spCore) update(z []float64, k int) error {
 	}
 	var krk []float64 // K R Kᵀ, exactly symmetric
 	if !c.augV {
-		mulDot(c.kr, c.k, m.R, nx, nz, nz)
-		abt(c.krk, c.kr, c.k, nx, nz, nx, true)
+		mulDot(c.kr, c.k, m.R, nd, nz, nz)
+		abt(c.krk, c.kr, c.k, nd, nz, nd, true)
 		krk = c.krk
 	}
-	if !s.covAdd(c.p, c.e, krk, nx) || !allFinite(c.x) {
+	if !s.covAdd(c.p, c.e, krk, nd) || !allFinite(c.x) {
 		return ErrNonFinite
 	}
 	c.hasInnov = true

@@ -85,6 +85,9 @@ type SRUKF struct {
 // NewSRUKF returns a square-root unscented Kalman filter for m.
 func NewSRUKF(m *Model, cfg SRUKFConfig) (*SRUKF, error) {
 	m.check()
+	if m.Manifold != nil {
+		return nil, ErrManifold
+	}
 	checkAngles(m)
 	if !m.Additive() {
 		return nil, errors.New("filters: srukf needs additive noise (the model has FW or HV)")

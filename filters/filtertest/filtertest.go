@@ -286,7 +286,7 @@ func NoAllocs(t testing.TB, f filters.Filter, m *filters.Model, x0, p0, z []floa
 		m.H(z, x0, 1)
 	}
 	rng := rand.New(rand.NewPCG(3, 4))
-	x, p := make([]float64, m.Nx), make([]float64, m.Nx*m.Nx)
+	x, p := make([]float64, m.Nx), make([]float64, m.Nd()*m.Nd())
 	nu, s := make([]float64, m.Nz), make([]float64, m.Nz*m.Nz)
 	inn, isInn := f.(filters.Innovator)
 	ess, isESS := f.(filters.ESSer)
@@ -344,12 +344,12 @@ func HandlesMissing(t testing.TB, f filters.Filter, m *filters.Model, x0, p0 []f
 	if err := f.Predict(1); err != nil {
 		t.Fatalf("Predict: %v", err)
 	}
-	x1, p1 := make([]float64, m.Nx), make([]float64, m.Nx*m.Nx)
+	x1, p1 := make([]float64, m.Nx), make([]float64, m.Nd()*m.Nd())
 	f.EstimateTo(x1, p1)
 	if err := f.Update(nil, 1); err != nil {
 		t.Fatalf("Update(nil): %v", err)
 	}
-	x2, p2 := make([]float64, m.Nx), make([]float64, m.Nx*m.Nx)
+	x2, p2 := make([]float64, m.Nx), make([]float64, m.Nd()*m.Nd())
 	f.EstimateTo(x2, p2)
 	for i := range x1 {
 		if x1[i] != x2[i] {
