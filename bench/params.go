@@ -89,6 +89,11 @@ type FilterSpec struct {
 	// Applies reports whether the filter can run on a problem with these
 	// traits, and if not, why (a sentence naming the problem's missing trait).
 	Applies func(t datasets.Traits) (ok bool, reason string)
+	// Manifold says the filter runs on a state on a manifold
+	// (filters.Model.Manifold; ekf as the multiplicative EKF, the
+	// sigma-point filters on the tangent error). Without it the filter
+	// does not apply to a problem whose Traits.Manifold is set.
+	Manifold bool
 	// New builds a filter for the model from a full set of parameter values.
 	New func(m *filters.Model, v Values) (filters.Filter, error)
 }

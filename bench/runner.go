@@ -86,6 +86,10 @@ func Run(s *Suite, opt Options) (*Outcome, error) {
 		for _, fc := range s.Filters {
 			p := &Pair{Problem: pl.label, Filter: fc.Spec.Name, Config: fc.Config}
 			out.Pairs = append(out.Pairs, p)
+			if prob.Traits.Manifold != "" && !fc.Spec.Manifold {
+				p.Note = fc.Spec.Name + " does not support a state on a manifold; " + pl.label + " " + prob.Traits.Manifold
+				continue
+			}
 			if ok, why := fc.Spec.Applies(prob.Traits); !ok {
 				p.Note = fc.Spec.Name + " " + strings.ReplaceAll(why, "{problem}", pl.label)
 				continue
@@ -163,7 +167,12 @@ func runProblem(s *Suite, pl *problemPlan, workers int, opt Options, done *int, 
 		}
 		ws[i] = w
 	}
-	steps, nx, nz := ws[0].prob.Steps, ws[0].prob.Model.Nx, ws[0].prob.Model.Nz
+	prob := ws[0].prob
+	steps, nz := prob.Steps, prob.Model.Nz
+	dof := prob.Model.Nd() // NEES degrees of freedom
+	if prob.NEESComps != nil {
+		dof = len(prob.NEESComps)
+	}
 
 	// Allocation and evaluation probe: run 0 of each configuration, alone,
 	// steps only, before the timed runs, which are therefore not slowed
@@ -174,8 +183,9 @@ func runProblem(s *Suite, pl *problemPlan, workers int, opt Options, done *int, 
 
 	accs := make([]*metrics.Accumulator, nf)
 	for c := range accs {
-		accs[c] = metrics.NewAccumulator(steps, nx, nz)
-		accs[c].NoTruth = ws[0].prob.NoTruth
+		accs[c] = metrics.NewAccumulator(steps, dof, nz)
+		accs[c].NoTruth = prob.NoTruth
+		accs[c].Replayed = prob.Replayed
 	}
 
 	// A fixed pool of result buffers bounds memory whatever the number of runs.
@@ -279,7 +289,8 @@ type worker struct {
 	xs, ps, nus, ss []float64
 	hasInn          []bool
 	ess             []float64
-	err, work       []float64 // state error and normalisation workspace
+	err, work       []float64 // state error (Nd) and normalisation workspace
+	esub, psub      []float64 // error and covariance of the NEESComps
 	step            int       // step being run, for panic reports
 	stepErr         error     // why filterSteps stopped early
 }
@@ -299,15 +310,17 @@ func newWorker(s *Suite, pl *problemPlan) (*worker, error) {
 		}
 		w.flts = append(w.flts, f)
 	}
-	k, nx, nz := prob.Steps, prob.Model.Nx, prob.Model.Nz
+	k, nx, nz, nd := prob.Steps, prob.Model.Nx, prob.Model.Nz, prob.Model.Nd()
 	w.xs = make([]float64, k*nx)
-	w.ps = make([]float64, k*nx*nx)
+	w.ps = make([]float64, k*nd*nd)
 	w.nus = make([]float64, k*nz)
 	w.ss = make([]float64, k*nz*nz)
 	w.hasInn = make([]bool, k)
 	w.ess = make([]float64, k)
-	w.err = make([]float64, nx)
-	n := max(nx, nz)
+	w.err = make([]float64, nd)
+	ne := len(prob.NEESComps)
+	w.esub, w.psub = make([]float64, ne), make([]float64, ne*ne)
+	n := max(nd, nz)
 	w.work = make([]float64, n*n+n)
 	return w, nil
 }
@@ -345,7 +358,7 @@ func (w *worker) probe(c int) (allocs, evals float64) {
 	stream(&w.dataPCG, w.suite.Seed, w.plan.key, 0, "data")
 	w.prob.Run(&w.seq, w.dataRand)
 	stream(&w.fltPCG, w.suite.Seed, w.plan.key, 0, w.plan.purpose[c])
-	if err := f.Reset(w.prob.X0, w.prob.P0, w.fltRand); err != nil {
+	if err := f.Reset(w.prior(), w.prob.P0, w.fltRand); err != nil {
 		return math.NaN(), math.NaN()
 	}
 	n.evals = 0 // set-up and Reset are not steps
@@ -416,7 +429,7 @@ func (w *worker) runFilter(c, r int, tr *metrics.RunTrace, ess []float64) {
 	}()
 	f := w.flts[c]
 	stream(&w.fltPCG, w.suite.Seed, w.plan.key, r, w.plan.purpose[c])
-	if err := f.Reset(w.prob.X0, w.prob.P0, w.fltRand); err != nil {
+	if err := f.Reset(w.prior(), w.prob.P0, w.fltRand); err != nil {
 		tr.Diverged, tr.Reason = true, err.Error()
 		return
 	}
@@ -439,13 +452,22 @@ func (w *worker) runFilter(c, r int, tr *metrics.RunTrace, ess []float64) {
 	w.score(tr)
 }
 
+// prior is the prior mean of the current run: the sequence's own when it
+// draws one (Sequence.Prior), else the problem's.
+func (w *worker) prior() []float64 {
+	if w.seq.Prior != nil {
+		return w.seq.Prior
+	}
+	return w.prob.X0
+}
+
 // filterSteps runs the filter over the current sequence, keeping every
 // step's estimate, innovation and ESS, and returns the steps completed.
 // Only filter work happens here: it is what ns_per_step and
 // allocs_per_step measure.
 func (w *worker) filterSteps(f filters.Filter) int {
 	m := &w.prob.Model
-	nx, nz := m.Nx, m.Nz
+	nx, nz, nd := m.Nx, m.Nz, m.Nd()
 	inn, _ := f.(filters.Innovator)
 	esser, _ := f.(filters.ESSer)
 	for k := 1; k <= w.prob.Steps; k++ {
@@ -460,7 +482,7 @@ func (w *worker) filterSteps(f filters.Filter) int {
 			return k - 1
 		}
 		i := k - 1
-		f.EstimateTo(w.xs[i*nx:(i+1)*nx], w.ps[i*nx*nx:(i+1)*nx*nx])
+		f.EstimateTo(w.xs[i*nx:(i+1)*nx], w.ps[i*nd*nd:(i+1)*nd*nd])
 		w.hasInn[i] = z != nil && inn != nil && inn.InnovationTo(w.nus[i*nz:(i+1)*nz], w.ss[i*nz*nz:(i+1)*nz*nz])
 		if esser != nil {
 			w.ess[i] = esser.ESS()
@@ -473,19 +495,30 @@ func (w *worker) filterSteps(f filters.Filter) int {
 // non-finite estimate or a covariance that is not positive definite ends
 // the run as diverged at that step. For a problem without truth SqErr and
 // NEES are NaN (never made up); the estimate and its covariance are still
-// checked, the covariance through the NEES of a zero error.
+// checked, the covariance through the NEES of a zero error. Steps the
+// problem does not score (Problem.Eval) are checked the same way and get
+// NaN. On a manifold the error is the tangent vector truth ⊟ estimate.
 func (w *worker) score(tr *metrics.RunTrace) {
 	m := &w.prob.Model
-	nx, nz := m.Nx, m.Nz
+	nx, nz, nd := m.Nx, m.Nz, m.Nd()
 	noTruth := w.prob.NoTruth
+	scale := w.prob.ScoreScale
+	if scale == 0 {
+		scale = 1
+	}
 	for k := 1; k <= w.prob.Steps; k++ {
 		i := k - 1
 		x := w.xs[i*nx : (i+1)*nx]
-		if noTruth {
+		switch {
+		case m.Manifold != nil && noTruth:
+			m.Manifold.Minus(w.err, x, x) // 0, or NaN for a non-finite estimate
+		case m.Manifold != nil:
+			m.Manifold.Minus(w.err, w.seq.State(k), x)
+		case noTruth:
 			for j := range x {
 				w.err[j] = x[j] - x[j] // 0, or NaN for a non-finite estimate
 			}
-		} else {
+		default:
 			truth := w.seq.State(k)
 			for j := range x {
 				w.err[j] = x[j] - truth[j]
@@ -496,23 +529,35 @@ func (w *worker) score(tr *metrics.RunTrace) {
 		}
 		var se, all float64
 		for _, j := range w.prob.Scored {
-			se += w.err[j] * w.err[j]
+			e := w.err[j] * scale
+			se += e * e
 		}
-		for _, v := range w.err {
+		for _, v := range x {
 			all += v
 		}
-		if math.IsNaN(se) || math.IsInf(se, 0) || (noTruth && math.IsNaN(all)) {
+		if math.IsNaN(se) || math.IsInf(se, 0) || math.IsNaN(all) || math.IsInf(all, 0) {
 			tr.Diverged, tr.DivStep, tr.Reason = true, k, "estimate not finite"
 			return
 		}
-		nees, ok := metrics.Normalised(w.err, w.ps[i*nx*nx:(i+1)*nx*nx], w.work)
+		p := w.ps[i*nd*nd : (i+1)*nd*nd]
+		e := w.err
+		if cs := w.prob.NEESComps; cs != nil {
+			for a, ca := range cs {
+				w.esub[a] = w.err[ca]
+				for b, cb := range cs {
+					w.psub[a*len(cs)+b] = p[ca*nd+cb]
+				}
+			}
+			e, p = w.esub, w.psub
+		}
+		nees, ok := metrics.Normalised(e, p, w.work)
 		if !ok || math.IsNaN(nees) || math.IsInf(nees, 0) {
 			tr.Diverged, tr.DivStep, tr.Reason = true, k, "covariance not positive definite"
 			return
 		}
 		tr.SqErr[i] = se
 		tr.NEES[i] = nees
-		if noTruth {
+		if noTruth || (w.prob.Eval != nil && !w.prob.Eval[i]) {
 			tr.SqErr[i], tr.NEES[i] = math.NaN(), math.NaN()
 		}
 		tr.NIS[i] = math.NaN()

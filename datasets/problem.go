@@ -16,6 +16,11 @@ type Sequence struct {
 	Truth []float64 // true states, Steps x Nx
 	Z     []float64 // measurements, Steps x Nz
 	Has   []bool    // Has[k-1] is false when step k has no measurement
+
+	// Prior, if not nil, is this run's prior mean (Nx), used instead of
+	// Problem.X0: for problems whose truth is fixed (recorded) and whose
+	// runs draw the prior's error instead.
+	Prior []float64
 }
 
 // Resize sizes the buffers for the given dimensions, reusing capacity.
@@ -65,6 +70,11 @@ type Traits struct {
 	NonDifferentiable string // when Differentiable is false: "is discontinuous at v=0"
 	NonAdditive       string // when AdditiveNoise is false: "has multiplicative process noise"
 	NonGaussian       string // when GaussianNoise is false: "has Student-t measurement noise"
+
+	// Manifold is set when the state lies on a manifold (Model.Manifold):
+	// a phrase such as "has a unit-quaternion attitude state". Filters
+	// without manifold support do not apply.
+	Manifold string
 }
 
 // Problem is a benchmark problem: a model, its prior and a simulator.
@@ -74,8 +84,28 @@ type Problem struct {
 	X0, P0 []float64 // prior mean and covariance; the true x0 is drawn from N(X0, P0)
 	Steps  int
 	Dt     float64 // seconds between steps (1 for problems without physical time)
-	Scored []int   // state components scored by RMSE
+	Scored []int   // components of the state error scored by RMSE
 	Traits Traits
+
+	// NEESComps lists the components of the state error that enter NEES
+	// (and its degrees of freedom), nil for all. Components whose truth
+	// is unknown (a gyro bias no reference measures) are left out: NEES is
+	// then that of the marginal covariance of the others.
+	NEESComps []int
+	// Eval, if not nil, marks the steps scored by RMSE and NEES: step k
+	// with Eval[k-1] false is left out (recorded data that mark the samples
+	// meant for evaluation). The filters still run over every step.
+	Eval []bool
+	// ScoreScale multiplies the scored error before RMSE (0 means 1):
+	// 180/π reports an angle in degrees. ScoreUnit names the unit of the
+	// result ("deg"); empty when it is the state's own.
+	ScoreScale float64
+	ScoreUnit  string
+	// Replayed says every run replays the same recorded measurements
+	// against a fixed truth; the runs differ only in what the run's stream
+	// draws (Sequence.Prior). The consistency bounds are then those of one
+	// run's values (metrics.Accumulator.Replayed).
+	Replayed bool
 
 	// NoTruth says the problem has no ground truth: its measurements are
 	// recorded, the same in every run, and Sequence.Truth and X0 hold NaN.

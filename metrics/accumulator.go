@@ -30,6 +30,13 @@ type Accumulator struct {
 	// before the first Add.
 	NoTruth bool
 
+	// Replayed says every run replays the same recorded measurements
+	// against a fixed truth (the runs differ only in what their streams
+	// draw, such as the prior's error): the runs are then not independent
+	// samples, and the NEES and NIS bounds are those of one run's values,
+	// as for NoTruth. Set it before the first Add.
+	Replayed bool
+
 	steps, nx, nz int
 
 	runs     int // traces added, diverged or not
@@ -40,8 +47,9 @@ type Accumulator struct {
 	divReason       string
 
 	// per-step sums over the non-diverged runs, each added in run order
-	sqErr    []float64 // Σ_r SqErr_r(k)
-	nees     []float64 // Σ_r NEES_r(k)
+	sqErr    []float64 // Σ_r SqErr_r(k) over the runs that score step k
+	nees     []float64 // Σ_r NEES_r(k) over the same runs
+	scoredN  []int     // number of those runs
 	nis      []float64 // Σ_r NIS_r(k) over the runs with a measurement at k
 	nisCount []int     // number of those runs
 	predSq   []float64 // Σ_r PredSqErr_r(k) over the runs with a value at k
@@ -71,6 +79,7 @@ func NewAccumulator(steps, nx, nz int) *Accumulator {
 		nz:       nz,
 		sqErr:    make([]float64, steps),
 		nees:     make([]float64, steps),
+		scoredN:  make([]int, steps),
 		nis:      make([]float64, steps),
 		nisCount: make([]int, steps),
 		predSq:   make([]float64, steps),
@@ -101,6 +110,10 @@ func grow(s []float64, n int) []float64 {
 // fixes the order of every floating-point sum, so the results do not depend
 // on how or where the runs were computed. Add reads t's slices and keeps
 // none of them.
+//
+// A step whose SqErr is NaN is not scored: the problem leaves it out of
+// RMSE and NEES (recorded data that mark the samples to evaluate), and its
+// NEES is ignored too.
 //
 // A diverged trace is counted and its values are ignored. A non-diverged
 // trace must have len(SqErr) == len(NEES) == steps, and NIS and ESS each
@@ -134,12 +147,16 @@ func (a *Accumulator) Add(t *RunTrace) {
 	}
 
 	var se float64
+	n := 0
 	for k, v := range t.SqErr {
+		if math.IsNaN(v) {
+			continue
+		}
 		a.sqErr[k] += v
+		a.nees[k] += t.NEES[k]
+		a.scoredN[k]++
 		se += v
-	}
-	for k, v := range t.NEES {
-		a.nees[k] += v
+		n++
 	}
 	if a.nz > 0 {
 		for k, v := range t.NIS {
@@ -160,7 +177,7 @@ func (a *Accumulator) Add(t *RunTrace) {
 	}
 	a.essCount += len(t.ESS)
 
-	a.runMSE = append(a.runMSE, se/float64(a.steps))
+	a.runMSE = append(a.runMSE, se/float64(n)) // NaN when no step is scored
 	a.runNs = append(a.runNs, t.NsPerStep)
 }
 
@@ -206,11 +223,22 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 	if M == 0 {
 		return s
 	}
-	if M < looseRuns && !a.NoTruth { // without truth the bounds do not grow with the runs
+	if M < looseRuns && !a.NoTruth && !a.Replayed { // replayed data: the bounds do not grow with the runs
 		s.Warnings = append(s.Warnings, fmt.Sprintf("bounds from %d runs are loose: use --runs 20 or more", M))
 	}
 
-	Mf, K := float64(M), float64(a.steps)
+	// N: the scored (run, step) pairs; K: the steps scored in some run.
+	N, K := 0, 0
+	for _, c := range a.scoredN {
+		if c > 0 {
+			N += c
+			K++
+		}
+	}
+	truth := !a.NoTruth && N > 0
+	if !a.NoTruth && N == 0 {
+		s.Warnings = append(s.Warnings, "no step is scored, so rmse and anees are NaN")
+	}
 
 	// The one-step-ahead prediction error over the (run, step) pairs
 	// with an innovation.
@@ -221,11 +249,11 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 	// RMSE over all runs and steps, and its bootstrap interval over runs.
 	if a.NoTruth {
 		s.Warnings = append(s.Warnings, NoTruthWarning)
-	} else {
-		s.RMSE = math.Sqrt(sum(a.sqErr) / (Mf * K))
+	} else if truth {
+		s.RMSE = math.Sqrt(sum(a.sqErr) / float64(N))
 	}
 	switch {
-	case a.NoTruth:
+	case !truth:
 	case M < 2:
 		s.Warnings = append(s.Warnings, "the RMSE interval needs at least 2 runs: use --runs 20 or more")
 	default:
@@ -239,17 +267,26 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 	}
 
 	// ANEES and the fraction of steps whose run average is in bounds.
-	if !a.NoTruth {
-		s.ANEES = sum(a.nees) / (Mf * K)
-		s.ANEESLo, s.ANEESHi = ChiSquareBounds(Mf*K*float64(a.nx), Mf*K, level)
-		lo, hi := ChiSquareBounds(Mf*float64(a.nx), Mf, level)
+	if truth {
+		s.ANEES = sum(a.nees) / float64(N)
+		m := float64(N)
+		if a.Replayed {
+			m = float64(K) // one run's worth of independent values
+		}
+		s.ANEESLo, s.ANEESHi = ChiSquareBounds(m*float64(a.nx), m, level)
+		var bc boundsCache
 		in := 0
-		for _, v := range a.nees {
-			if avg := v / Mf; avg >= lo && avg <= hi {
+		for k, v := range a.nees {
+			c := a.scoredN[k]
+			if c == 0 {
+				continue
+			}
+			lo, hi := bc.get(a.independent(c), a.nx)
+			if avg := v / float64(c); avg >= lo && avg <= hi {
 				in++
 			}
 		}
-		s.NEESInBounds = float64(in) / K
+		s.NEESInBounds = float64(in) / float64(K)
 	}
 
 	// ANIS over the (run, step) pairs with a measurement.
@@ -271,7 +308,7 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 		if total > 0 {
 			n := float64(total)
 			s.ANIS = sum(a.nis) / n
-			if a.NoTruth {
+			if a.NoTruth || a.Replayed {
 				n = float64(stepsWith) // one run's worth of independent values
 			}
 			s.ANISLo, s.ANISHi = ChiSquareBounds(n*float64(a.nz), n, level)
@@ -294,22 +331,18 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 // runs added so far. With no such run every value is NaN.
 func (a *Accumulator) Curves() []CurvePoint {
 	M := len(a.runMSE)
-	Mf := float64(M)
 	nan := math.NaN()
-	lo, hi := nan, nan
-	if M > 0 && !a.NoTruth {
-		lo, hi = ChiSquareBounds(Mf*float64(a.nx), Mf, level)
-	}
-	var bc boundsCache
+	var bc, be boundsCache
 	out := make([]CurvePoint, a.steps)
 	for k := range out {
-		p := CurvePoint{Step: k + 1, RMSE: nan, PredRMSE: nan, ANEES: nan, ANEESLo: lo, ANEESHi: hi, ANIS: nan, Runs: M, ANISLo: nan, ANISHi: nan}
+		p := CurvePoint{Step: k + 1, RMSE: nan, PredRMSE: nan, ANEES: nan, ANEESLo: nan, ANEESHi: nan, ANIS: nan, Runs: M, ANISLo: nan, ANISHi: nan}
 		if c := a.predN[k]; c > 0 {
 			p.PredRMSE = math.Sqrt(a.predSq[k] / float64(c))
 		}
-		if M > 0 && !a.NoTruth {
-			p.RMSE = math.Sqrt(a.sqErr[k] / Mf)
-			p.ANEES = a.nees[k] / Mf
+		if c := a.scoredN[k]; c > 0 && !a.NoTruth {
+			p.RMSE = math.Sqrt(a.sqErr[k] / float64(c))
+			p.ANEES = a.nees[k] / float64(c)
+			p.ANEESLo, p.ANEESHi = be.get(a.independent(c), a.nx)
 		}
 		if c := a.nisCount[k]; c > 0 {
 			p.NISRuns = c
@@ -342,7 +375,7 @@ const NoTruthWarning = "no ground truth: rmse and anees are not defined; pred_rm
 // independent is the number of independent NIS values behind c runs' values
 // at one step: c, or 1 when the runs replay the same recorded data.
 func (a *Accumulator) independent(c int) int {
-	if a.NoTruth {
+	if a.NoTruth || a.Replayed {
 		return 1
 	}
 	return c
@@ -379,11 +412,18 @@ func RunStatOf(t *RunTrace) RunStat {
 	if t.Diverged {
 		return r
 	}
-	if len(t.SqErr) > 0 {
-		r.RMSE = math.Sqrt(sum(t.SqErr) / float64(len(t.SqErr)))
+	var se, ne float64
+	n := 0
+	for k, v := range t.SqErr { // a NaN SqErr marks a step not scored
+		if !math.IsNaN(v) {
+			se += v
+			ne += t.NEES[k]
+			n++
+		}
 	}
-	if len(t.NEES) > 0 {
-		r.ANEES = sum(t.NEES) / float64(len(t.NEES))
+	if n > 0 {
+		r.RMSE = math.Sqrt(se / float64(n))
+		r.ANEES = ne / float64(n)
 	}
 	var ns float64
 	var nc int

@@ -6,8 +6,8 @@ package metrics
 type RunTrace struct {
 	Run int // run index r
 
-	SqErr []float64 // squared error norm over the scored components
-	NEES  []float64 // normalised estimation error squared, full state
+	SqErr []float64 // squared error norm over the scored components; NaN at a step not scored
+	NEES  []float64 // normalised estimation error squared (ignored where SqErr is NaN)
 	NIS   []float64 // normalised innovation squared; NaN where no measurement
 
 	// PredSqErr is the squared norm of the innovation, ‖z_k − ẑ_{k|k−1}‖²
