@@ -43,8 +43,22 @@ func TestBROAD(t *testing.T) {
 			t.Errorf("%s: %d samples, longest gap %v s; want 5714 and 0.0035", st.Name, st.Samples, st.LongestGap)
 		}
 	}
-	if len(rec.Columns) != 16 {
-		t.Fatalf("%d columns, want 9 IMU + 7 truth", len(rec.Columns))
+	if len(rec.Columns) != 17 {
+		t.Fatalf("%d columns, want 9 IMU + 7 truth + the evaluation flag", len(rec.Columns))
+	}
+	// SOURCE.md: 4,571 rows with movement == 1, the first at sample index 10379
+	// (row 10379 - 9236 = 1143).
+	ev, n := rec.Column("evaluate"), 0
+	for i, v := range ev.Values {
+		if v == 1 {
+			if n == 0 && i != 1143 {
+				t.Errorf("first evaluated row %d, want 1143", i)
+			}
+			n++
+		}
+	}
+	if n != 4571 {
+		t.Errorf("%d rows flagged for evaluation, want 4571", n)
 	}
 	for _, c := range rec.Columns {
 		if c.Valid != nil {

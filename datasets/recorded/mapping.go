@@ -46,7 +46,9 @@ import (
 // Kinds and their units (canonical first): gyro and gyro-bias (rad/s,
 // deg/s), accelerometer and accel-bias (m/s^2, g), magnetometer (uT, nT,
 // mT, T, G, mG), position (m, cm, mm, km), velocity (m/s, km/h, kn),
-// orientation (unitless; stored w, x, y, z). Columns are named
+// orientation (unitless; stored w, x, y, z), flag (unitless, one column: a
+// 0/1 mark per sample, such as a dataset's mark of the samples meant for
+// evaluation; named by its prefix alone, default "flag"). Columns are named
 // prefix_x, prefix_y, prefix_z (quaternions prefix_w first); the default
 // prefix is gyro, accel, mag, pos, vel, quat, gyro_bias or accel_bias, with
 // "true_" before it for ground truth.
@@ -334,6 +336,15 @@ func (p *mappingParser) parseQuantity(t table, names map[string]string) []outCol
 			p.errorf(t.path, "order", "%q: want wxyz or xyzw (the order of the columns)", o)
 			return nil
 		}
+	case k.scalar:
+		if _, ok := t.vals["order"]; ok {
+			p.errorf(t.path, "order", "only for orientation")
+		}
+		if len(cols) != 1 {
+			p.errorf(t.path, "columns", "%s needs 1 column, got %d", kname, len(cols))
+			return nil
+		}
+		axes = []string{""}
 	default:
 		if _, ok := t.vals["order"]; ok {
 			p.errorf(t.path, "order", "only for orientation")
@@ -350,6 +361,9 @@ func (p *mappingParser) parseQuantity(t table, names map[string]string) []outCol
 			p.errorf(t.path, "columns", "column %d has an empty name", i+1)
 		}
 		name := prefix + "_" + axes[i]
+		if k.scalar {
+			name = prefix
+		}
 		if prev, dup := names[name]; dup {
 			p.errorf(t.path, "columns", "column %q is also made at line %d", name, p.lines.line(prev, ""))
 		}

@@ -57,7 +57,7 @@ time_unit = "minutes"
 `, []string{
 			`m.toml:14: time_unit: "minutes": want s, ms, us or ns`,
 			`m.toml:23: order: "zyxw": want wxyz or xyzw (the order of the columns)`,
-			`m.toml:26: kind: "accelerometr": want one of gyro, accelerometer, magnetometer, position, velocity, orientation, gyro-bias, accel-bias (did you mean "accelerometer"?)`,
+			`m.toml:26: kind: "accelerometr": want one of gyro, accelerometer, magnetometer, position, velocity, orientation, gyro-bias, accel-bias, flag (did you mean "accelerometer"?)`,
 		}},
 		{"types and values", `dataset = 3
 start = "yesterday"
@@ -126,7 +126,7 @@ time_unit = "s"
 
 func TestMappingShipped(t *testing.T) {
 	m := broadMapping(t)
-	if len(m.files) != 2 || len(m.files[0].outs) != 9 || len(m.files[1].outs) != 7 || m.Dataset() != "BROAD" {
+	if len(m.files) != 2 || len(m.files[0].outs) != 9 || len(m.files[1].outs) != 8 || m.files[1].outs[7].col.Name != "evaluate" || m.Dataset() != "BROAD" {
 		t.Fatalf("mapping %+v", m)
 	}
 	if _, err := ParseMapping("asl", []byte(aslMapping)); err != nil {

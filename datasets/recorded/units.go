@@ -9,6 +9,7 @@ type kind struct {
 	canon  string
 	units  map[string]float64
 	quat   bool // an orientation quaternion: four columns, an order
+	scalar bool // one column, named by the prefix alone (a flag)
 }
 
 // Conversion factors: the definitions of the SI Brochure (BIPM 2019, 9th
@@ -33,7 +34,8 @@ var kinds = map[string]kind{
 	"orientation":   {prefix: "quat", canon: "1", units: unitless, quat: true},
 	"gyro-bias":     {prefix: "gyro_bias", canon: "rad/s", units: angularRate},
 	"accel-bias":    {prefix: "accel_bias", canon: "m/s^2", units: acceleration},
+	"flag":          {prefix: "flag", canon: "1", units: unitless, scalar: true},
 }
 
 // kindNames lists the kinds in the order the documentation gives them.
-var kindNames = []string{"gyro", "accelerometer", "magnetometer", "position", "velocity", "orientation", "gyro-bias", "accel-bias"}
+var kindNames = []string{"gyro", "accelerometer", "magnetometer", "position", "velocity", "orientation", "gyro-bias", "accel-bias", "flag"}
