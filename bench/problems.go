@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"github.com/estbench/estbench/datasets"
+	"github.com/estbench/estbench/datasets/attitude"
 )
 
 // builtinProblems is the one explicit list of built-in problems. A new
@@ -284,6 +285,29 @@ func builtinProblems() []ProblemSpec {
 				return datasets.NewTrack(datasets.TrackConfig{Steps: v.Int("steps"), File: v.Str("file"), Format: v.Str("format"),
 					Track: v.Str("track"), MinPoints: v.Int("min_points"), Sigma: v.Float("sigma"), Dt: v.Float("dt"),
 					Motion: v.Str("motion"), Q: v.Float("q"), Q2: v.Float("q2")})
+			},
+		},
+		{
+			Name:    "attitude",
+			Summary: "orientation from a recorded gyroscope and accelerometer (magnetometer optional) against mocap truth; unit-quaternion state, error in degrees",
+			Source: "real IMU + motion capture (default: BROAD trial 21, Laidig, Caruso, Cereatti & Seel 2021, Data 6(7):72, CC BY 4.0); " +
+				"multiplicative error: Markley 2003, J. Guid. Control Dyn. 26(2)",
+			Params: []Param{
+				{Name: "steps", Kind: Int, Default: Value{Num: 0}, Doc: "number of time steps; 0 = every row of the recording", Min: 0, Max: 1e8},
+				{Name: "file", Kind: String, Default: Value{Str: ""}, Doc: "recording: an .arrow file or a folder read with a mapping, or NAME:FILE of a fetched public dataset; empty = the shared BROAD sample (broad-imu-mocap)"},
+				{Name: "mapping", Kind: String, Default: Value{Str: ""}, Doc: "mapping TOML file or shipped mapping name for a folder; empty = the shipped mapping named after the folder"},
+				{Name: "magnetometer", Kind: String, Default: Value{Str: "off"}, Choices: []string{"off", "on"}, Doc: "also measure the magnetometer (heading is unobservable without it)"},
+				{Name: "gyro_noise", Kind: Float, Default: Value{Num: 0.03}, Doc: "gyro sample standard deviation in rad/s (attitude process noise)", Min: 1e-9, Max: 1e3},
+				{Name: "bias_noise", Kind: Float, Default: Value{Num: 1e-5}, Doc: "gyro bias random walk in rad/s/√s", Min: 1e-12, Max: 1e3},
+				{Name: "acc_noise", Kind: Float, Default: Value{Num: 20}, Doc: "accelerometer standard deviation per axis in m/s², motion included", Min: 1e-9, Max: 1e3},
+				{Name: "mag_noise", Kind: Float, Default: Value{Num: 10}, Doc: "magnetometer standard deviation per axis in µT", Min: 1e-9, Max: 1e4},
+				{Name: "prior_deg", Kind: Float, Default: Value{Num: 5}, Doc: "standard deviation of the prior attitude error per axis in degrees (each run draws one)", Min: 1e-6, Max: 90},
+				{Name: "prior_bias", Kind: Float, Default: Value{Num: 0.01}, Doc: "prior standard deviation of each gyro bias component in rad/s", Min: 1e-9, Max: 10},
+			},
+			Build: func(v Values) (*datasets.Problem, error) {
+				return attitude.New(attitude.Config{Steps: v.Int("steps"), File: v.Str("file"), Mapping: v.Str("mapping"),
+					Magnetometer: v.Str("magnetometer") == "on", GyroNoise: v.Float("gyro_noise"), BiasNoise: v.Float("bias_noise"),
+					AccNoise: v.Float("acc_noise"), MagNoise: v.Float("mag_noise"), PriorDeg: v.Float("prior_deg"), PriorBias: v.Float("prior_bias")})
 			},
 		},
 	}

@@ -260,8 +260,28 @@ func runProblem(s *Suite, pl *problemPlan, workers int, opt Options, done *int, 
 		bootSeed, _ := streamSeed(s.Seed, pl.key, -1, pl.purpose[c]+" bootstrap")
 		p.Summary = accs[c].Summary(bootSeed)
 		p.Curves = accs[c].Curves()
+		p.Summary.Warnings = append(p.Summary.Warnings, scoringNotes(prob)...)
 	}
 	return nil
+}
+
+// scoringNotes says how a problem's scores read when that is not plain:
+// their unit and the steps scored.
+func scoringNotes(p *datasets.Problem) []string {
+	var n []string
+	if p.ScoreUnit != "" {
+		n = append(n, "rmse in "+p.ScoreUnit)
+	}
+	if p.Eval != nil {
+		c := 0
+		for _, e := range p.Eval {
+			if e {
+				c++
+			}
+		}
+		n = append(n, fmt.Sprintf("rmse and anees over the %d of %d steps the data mark for evaluation", c, len(p.Eval)))
+	}
+	return n
 }
 
 func newTrace(steps int) metrics.RunTrace {

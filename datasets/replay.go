@@ -347,7 +347,15 @@ func cvRangeBearingModel(t, m11, m12, m22 float64) filters.Model {
 // recordingFile returns the path of the recording: file, or the default
 // sample ReplayDefaultFile found under shared/datasets in the current
 // directory or a parent. who names the problem in errors.
-func recordingFile(who, file string) (string, error) {
+func recordingFile(who, file string) (string, error) { return FindFile(who, file, ReplayDefaultFile) }
+
+// FindFile resolves the file setting of a problem built from recorded
+// data: "NAME:PATH" names a file of the fetched public dataset NAME (an
+// error says what to fetch when it is missing), another non-empty value is
+// a path, and an empty one means the sample def (a slash-separated path
+// under shared/datasets) found in the current directory or a parent. who
+// names the problem in errors.
+func FindFile(who, file, def string) (string, error) {
 	if name, rel, ok := strings.Cut(file, ":"); ok {
 		if _, known := fetch.Lookup(name); known {
 			return fetchedFile(who, name, rel)
@@ -362,7 +370,7 @@ func recordingFile(who, file string) (string, error) {
 	}
 	for dir := wd; ; {
 		if st, err := os.Stat(filepath.Join(dir, "shared", "datasets")); err == nil && st.IsDir() {
-			return filepath.Join(dir, "shared", "datasets", filepath.FromSlash(ReplayDefaultFile)), nil
+			return filepath.Join(dir, "shared", "datasets", filepath.FromSlash(def)), nil
 		}
 		up := filepath.Dir(dir)
 		if up == dir {
@@ -371,7 +379,7 @@ func recordingFile(who, file string) (string, error) {
 		dir = up
 	}
 	return "", fmt.Errorf("datasets: %s: no file given and no shared/datasets folder in %s or its parents; "+
-		"fetch the public dataset samples beside the project (the default is %s) or give a file: %w", who, wd, ReplayDefaultFile, fs.ErrNotExist)
+		"fetch the public dataset samples beside the project (the default is %s) or give a file: %w", who, wd, def, fs.ErrNotExist)
 }
 
 // checkTrackMotion checks the step and motion-model settings that the

@@ -71,7 +71,7 @@ func TestDataImportBROAD(t *testing.T) {
 		t.Fatalf("exit %d: %s", code, e)
 	}
 	file := filepath.Join(out, "21_undisturbed_fast_combined.arrow")
-	if !strings.Contains(o, file+": 5714 rows, 16 columns, 19.9955 s") {
+	if !strings.Contains(o, file+": 5714 rows, 17 columns, 19.9955 s") {
 		t.Errorf("stdout %q", o)
 	}
 	rec, err := recorded.ReadFile(file)
