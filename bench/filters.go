@@ -28,8 +28,8 @@ func builtinFilters() []FilterSpec {
 		{
 			Name:     "ekf",
 			Manifold: true,
-			Summary:  "extended Kalman filter; analytic Jacobians when the model has them, else central differences",
-			Source:   "Jazwinski 1970, Stochastic Processes and Filtering Theory; Bar-Shalom et al. 2001, §10.3",
+			Summary:  "extended Kalman filter; analytic Jacobians when the model has them, else central differences; on a manifold state (attitude) the multiplicative error-state EKF",
+			Source:   "Jazwinski 1970, Stochastic Processes and Filtering Theory; Bar-Shalom et al. 2001, §10.3; multiplicative EKF: Markley 2003, J. Guid. Control Dyn. 26(2)",
 			Traits:   "needs a differentiable model",
 			Params: append([]Param{
 				{Name: "diff_step", Kind: Float, Default: Value{Num: 1e-6}, Doc: "relative central-difference step when the model has no Jacobian", Min: 1e-12, Max: 1},
@@ -47,8 +47,8 @@ func builtinFilters() []FilterSpec {
 		{
 			Name:     "ukf",
 			Manifold: true,
-			Summary:  "unscented Kalman filter, additive noise; sigma points scaled (default), symmetric or spherical simplex; Joseph-form update",
-			Source:   "Julier 2002 and Julier 2003, Proc. American Control Conf.; Julier & Uhlmann 1997, Proc. SPIE 3068; Wan & van der Merwe 2000, Proc. IEEE AS-SPCC",
+			Summary:  "unscented Kalman filter, additive noise; sigma points scaled (default), symmetric or spherical simplex; Joseph-form update; on a manifold state, sigma points in the error and a mean on the manifold",
+			Source:   "Julier 2002 and Julier 2003, Proc. American Control Conf.; Julier & Uhlmann 1997, Proc. SPIE 3068; Wan & van der Merwe 2000, Proc. IEEE AS-SPCC; on a quaternion: Crassidis & Markley 2003, J. Guid. Control Dyn. 26(4)",
 			Traits:   "any model with additive noise (for non-additive noise see ukf-aug)",
 			Params:   ukfParams(),
 			Applies:  additiveOnly,
