@@ -2,6 +2,8 @@ package recorded
 
 import (
 	"bufio"
+	"bytes"
+	"encoding/binary"
 	"encoding/json"
 	"errors"
 	"fmt"
@@ -287,15 +289,23 @@ func Decode(name string, data []byte) (rec *Recording, err error) {
 	if len(data) == 0 {
 		return nil, bad("empty file")
 	}
+	// arrow-go trusts the counts a file declares: check them first.
+	if err := checkLayout(name, data); err != nil {
+		return nil, err
+	}
 	// arrow-go panics on some internally corrupt files (found by fuzzing).
 	// A damaged input file is bad input, not a bug: report it as an error
 	// naming the file instead of crashing the command.
 	defer func() {
 		if v := recover(); v != nil {
+			if r, ok := v.(allocRefused); ok {
+				rec, err = nil, bad("corrupt Arrow IPC file: it makes the reader allocate %d bytes, more than the file's %d", r.size, r.limit)
+				return
+			}
 			rec, err = nil, bad("corrupt Arrow IPC file: %v", v)
 		}
 	}()
-	fr, err := ipc.NewMappedFileReader(data)
+	fr, err := ipc.NewMappedFileReader(data, ipc.WithAllocator(cappedAllocator{limit: len(data)}))
 	if err != nil {
 		return nil, bad("not an Arrow IPC file: %v", err)
 	}
@@ -303,12 +313,6 @@ func Decode(name string, data []byte) (rec *Recording, err error) {
 	schema := fr.Schema()
 	md := schema.Metadata()
 	get := func(k string) string { v, _ := md.GetValue(k); return v }
-	if f := get(keyFormat); f != FormatVersion {
-		return nil, bad("format %q, want %q (not a recording written by estbench?)", f, FormatVersion)
-	}
-	if fr.NumRecords() != 1 {
-		return nil, bad("%d record batches, want 1", fr.NumRecords())
-	}
 	fields := schema.Fields()
 	if len(fields) == 0 || fields[0].Name != "t" {
 		return nil, bad(`first field must be "t"`)
@@ -398,3 +402,356 @@ func (r *Recording) clone() *Recording {
 	}
 	return c
 }
+
+// arrowMagic opens and closes an Arrow IPC file. The file is the magic
+// padded to 8 bytes, the stream of messages, the footer (a flatbuffer),
+// its length as a little-endian int32, and the magic again (Apache Arrow
+// columnar format specification, "IPC File Format").
+const arrowMagic = "ARROW1"
+
+// arrowTypeNames are the members of the Type union of the Arrow schema
+// flatbuffer (Schema.fbs), by tag.
+var arrowTypeNames = [...]string{"none", "null", "int", "floating point", "binary", "utf8", "bool",
+	"decimal", "date", "time", "timestamp", "interval", "list", "struct", "union", "fixed-size binary",
+	"fixed-size list", "map", "duration", "large binary", "large utf8", "large list", "run-end encoded",
+	"binary view", "utf8 view", "list view", "large list view"}
+
+// checkLayout checks what the Arrow IPC file in data declares against its
+// size before arrow-go reads it. arrow-go trusts the counts in a file's
+// flatbuffers: it makes a slice of the declared number of fields or
+// metadata entries before reading them, so a few patched bytes make it
+// attempt an allocation of many gigabytes, and the process dies of it (no
+// recover catches that; found by FuzzDecode). checkLayout reads the
+// footer and the record batch's metadata with every offset and count
+// checked, counts what they reference against their size (a table or
+// string referenced many times would be decoded many times), and refuses
+// what Encode never writes and arrow-go would decode into memory of its
+// own: dictionaries, compressed buffers, nested fields, types other than
+// floating point. Its errors are *LoadErrors.
+func checkLayout(name string, data []byte) error {
+	bad := func(format string, args ...any) error {
+		return &LoadError{File: name, Msg: fmt.Sprintf(format, args...)}
+	}
+	size := len(data)
+	if size < 2*8+4 || !bytes.HasPrefix(data, []byte(arrowMagic)) || !bytes.HasSuffix(data, []byte(arrowMagic)) {
+		return bad("not an Arrow IPC file (no %s magic at both ends)", arrowMagic)
+	}
+	end := size - len(arrowMagic) - 4 // end of the footer
+	footerLen := int(binary.LittleEndian.Uint32(data[end:]))
+	if footerLen > end-8 {
+		return bad("corrupt Arrow IPC file: the footer is declared %d bytes long, but the file has %d bytes", footerLen, size)
+	}
+	dataEnd := end - footerLen
+	f := &fbuf{what: "footer", b: data[dataEnd:end], left: footerLen}
+	root := f.root()
+	schema := f.table(root, 1)
+	if f.err == nil && schema < 0 {
+		return bad("corrupt Arrow IPC file: the footer has no schema")
+	}
+	var format string
+	f.keyValues(schema, 2, "schema metadata entries", func(k, v string) {
+		if k == keyFormat {
+			format = v
+		}
+	})
+	if f.err == nil && format != FormatVersion {
+		return bad("format %q, want %q (not a recording written by estbench?)", format, FormatVersion)
+	}
+	if _, n := f.vector(root, 2, 24, "dictionary batches"); n != 0 {
+		return bad("%d dictionary batches; a recording has none", n)
+	}
+	batch, n := f.vector(root, 3, 24, "record batches")
+	if f.err == nil && n != 1 {
+		return bad("%d record batches, want 1", n)
+	}
+	start, nf := f.vector(schema, 1, 4, "schema fields")
+	names := make([]string, 0, nf)
+	for i := range nf {
+		t := f.tableAt(f.ref(start + 4*i))
+		fname := f.str(t, 0, "bytes of a field name")
+		names = append(names, fname)
+		if _, n := f.vector(t, 5, 4, "child fields"); n != 0 && f.err == nil {
+			return &LoadError{File: name, Field: fname, Msg: "nested fields; a recording has flat float64 fields"}
+		}
+		if f.slot(t, 4) >= 0 && f.err == nil {
+			return &LoadError{File: name, Field: fname, Msg: "dictionary-encoded; a recording has plain float64 fields"}
+		}
+		if tag := f.u8Field(t, 2); tag != 3 && f.err == nil { // 3: FloatingPoint
+			tn := fmt.Sprintf("tag %d", tag)
+			if tag < len(arrowTypeNames) {
+				tn = arrowTypeNames[tag]
+			}
+			return &LoadError{File: name, Field: fname, Msg: "type " + tn + ", want float64"}
+		}
+		if f.table(t, 3) < 0 && f.err == nil {
+			return &LoadError{File: name, Field: fname, Msg: "corrupt Arrow IPC file: the field has no type"}
+		}
+		f.keyValues(t, 6, "field metadata entries", nil)
+	}
+	// The record batch's block: offset, metadata length (with its padding
+	// to 8 bytes), body length.
+	off, meta, body := f.i64(batch), int64(int32(f.u32(batch+8))), f.i64(batch+16)
+	if f.err != nil {
+		return bad("corrupt Arrow IPC file: %v", f.err)
+	}
+	if off < 8 || meta < 8 || body < 0 || off > int64(dataEnd) || meta > int64(dataEnd)-off || body > int64(dataEnd)-off-meta {
+		return bad("corrupt Arrow IPC file: the record batch is declared at offset %d with %d bytes of metadata and %d of data, but the file has %d bytes before its footer",
+			off, meta, body, dataEnd)
+	}
+	// The metadata is a flatbuffer Message after a continuation marker
+	// 0xFFFFFFFF and its length, or (before Arrow 0.15) only the length.
+	m := data[off : off+meta]
+	if binary.LittleEndian.Uint32(m) == 0xFFFFFFFF {
+		m = m[8:]
+	} else {
+		m = m[4:]
+	}
+	g := &fbuf{what: "record batch metadata", b: m, left: len(m)}
+	msg := g.root()
+	if typ := g.u8Field(msg, 1); typ != 3 && g.err == nil { // 3: RecordBatch
+		return bad("corrupt Arrow IPC file: the record batch block holds a message of type %d, not a record batch", typ)
+	}
+	g.keyValues(msg, 4, "record batch metadata entries", nil)
+	rb := g.table(msg, 2)
+	if g.err == nil && rb < 0 {
+		return bad("corrupt Arrow IPC file: the record batch message has no header")
+	}
+	rows := g.i64Field(rb, 0)
+	if g.slot(rb, 3) >= 0 && g.err == nil {
+		return bad("compressed record batch; a recording is written uncompressed")
+	}
+	nodes, nn := g.vector(rb, 1, 16, "field nodes")
+	bufs, nb := g.vector(rb, 2, 16, "buffers")
+	if g.err != nil {
+		return bad("corrupt Arrow IPC file: %v", g.err)
+	}
+	if rows < 0 || rows > body/8 {
+		return bad("the record batch declares %d rows, but its data has %d bytes, room for at most %d rows of float64", rows, body, body/8)
+	}
+	if nn != nf || nb != 2*nf {
+		return bad("corrupt Arrow IPC file: the record batch has %d field nodes and %d buffers for %d fields, want 1 and 2 per field", nn, nb, nf)
+	}
+	for i, fname := range names {
+		ferr := func(format string, args ...any) error {
+			return &LoadError{File: name, Field: fname, Msg: fmt.Sprintf(format, args...)}
+		}
+		length, nulls := g.i64(nodes+16*i), g.i64(nodes+16*i+8)
+		if length != rows {
+			return ferr("corrupt Arrow IPC file: %d values declared in a record batch of %d rows", length, rows)
+		}
+		if nulls < 0 || nulls > length {
+			return ferr("corrupt Arrow IPC file: %d nulls declared among %d values", nulls, length)
+		}
+		for k, need := range [2]int64{(rows + 7) / 8, 8 * rows} { // validity bitmap, values
+			at, n := g.i64(bufs+16*(2*i+k)), g.i64(bufs+16*(2*i+k)+8)
+			if at < 0 || n < 0 || at > body || n > body-at {
+				return ferr("corrupt Arrow IPC file: a buffer is declared at offset %d with %d bytes, but the record batch data has %d bytes", at, n, body)
+			}
+			if n < need && (k == 1 || nulls > 0) {
+				return ferr("corrupt Arrow IPC file: a buffer of %d bytes for %d rows, want at least %d", n, rows, need)
+			}
+		}
+	}
+	return nil
+}
+
+// fbuf reads a flatbuffer with every offset and count checked (the
+// flatbuffers encoding: a table starts with the signed offset back to
+// its vtable, whose uint16s are the vtable size, the table size and the
+// offset of each field, 0 when absent; offsets to tables, vectors and
+// strings are uint32s relative to where they are stored; a vector or
+// string is a uint32 count and its elements). The first error sticks:
+// once err is set, every read returns 0 or -1.
+type fbuf struct {
+	what string // "footer", ...
+	b    []byte
+	left int // bytes of tables, vectors and strings not yet read
+	err  error
+}
+
+func (f *fbuf) fail(format string, args ...any) {
+	if f.err == nil {
+		f.err = fmt.Errorf(f.what+": "+format, args...)
+	}
+}
+
+func (f *fbuf) in(at, n int) bool {
+	if f.err != nil {
+		return false
+	}
+	if at < 0 || at > len(f.b)-n {
+		f.fail("offset %d outside its %d bytes", at, len(f.b))
+		return false
+	}
+	return true
+}
+
+func (f *fbuf) u8(at int) int {
+	if !f.in(at, 1) {
+		return 0
+	}
+	return int(f.b[at])
+}
+
+func (f *fbuf) u16(at int) int {
+	if !f.in(at, 2) {
+		return 0
+	}
+	return int(binary.LittleEndian.Uint16(f.b[at:]))
+}
+
+func (f *fbuf) u32(at int) int {
+	if !f.in(at, 4) {
+		return 0
+	}
+	return int(binary.LittleEndian.Uint32(f.b[at:]))
+}
+
+func (f *fbuf) i64(at int) int64 {
+	if !f.in(at, 8) {
+		return 0
+	}
+	return int64(binary.LittleEndian.Uint64(f.b[at:]))
+}
+
+// u8Field and i64Field return field i of the table at t, 0 when absent.
+func (f *fbuf) u8Field(t, i int) int {
+	if s := f.slot(t, i); s >= 0 {
+		return f.u8(s)
+	}
+	return 0
+}
+
+func (f *fbuf) i64Field(t, i int) int64 {
+	if s := f.slot(t, i); s >= 0 {
+		return f.i64(s)
+	}
+	return 0
+}
+
+// charge counts n bytes read against the size of the buffer.
+func (f *fbuf) charge(n int, what string) {
+	if f.left -= n; f.left < 0 {
+		f.fail("the tables, strings and vectors it references add up to more than its %d bytes (at its %s; one entry referenced many times?)", len(f.b), what)
+	}
+}
+
+// ref follows the offset stored at at.
+func (f *fbuf) ref(at int) int {
+	if f.err != nil {
+		return -1
+	}
+	return at + f.u32(at)
+}
+
+func (f *fbuf) root() int { return f.tableAt(f.ref(0)) }
+
+// tableAt checks the table at t and charges its size.
+func (f *fbuf) tableAt(t int) int {
+	vt := t - int(int32(f.u32(t)))
+	if vsize := f.u16(vt); vsize < 4 && f.err == nil {
+		f.fail("a vtable of %d bytes", vsize)
+	}
+	f.charge(max(f.u16(vt+2), 4), "tables")
+	if f.err != nil {
+		return -1
+	}
+	return t
+}
+
+// slot returns the position of field i of the table at t, or -1 when the
+// field is absent.
+func (f *fbuf) slot(t, i int) int {
+	if f.err != nil || t < 0 {
+		return -1
+	}
+	vt := t - int(int32(f.u32(t)))
+	if 4+2*i >= f.u16(vt) {
+		return -1
+	}
+	o := f.u16(vt + 4 + 2*i)
+	if o == 0 || f.err != nil {
+		return -1
+	}
+	return t + o
+}
+
+// table returns the table that field i of the table at t refers to, or
+// -1 when the field is absent.
+func (f *fbuf) table(t, i int) int {
+	s := f.slot(t, i)
+	if s < 0 {
+		return -1
+	}
+	return f.tableAt(f.ref(s))
+}
+
+// vector returns where the elements of the vector that field i of the
+// table at t refers to start, and their count; 0, 0 when the field is
+// absent. what names the elements in errors.
+func (f *fbuf) vector(t, i, elem int, what string) (int, int) {
+	s := f.slot(t, i)
+	if s < 0 {
+		return 0, 0
+	}
+	v := f.ref(s)
+	n := f.u32(v)
+	if f.err != nil {
+		return 0, 0
+	}
+	if n > (len(f.b)-v-4)/elem {
+		f.fail("%d %s declared (%d bytes each), but it has %d bytes", n, what, elem, len(f.b))
+		return 0, 0
+	}
+	f.charge(n*elem, what)
+	if f.err != nil {
+		return 0, 0
+	}
+	return v + 4, n
+}
+
+// str returns the string that field i of the table at t refers to.
+func (f *fbuf) str(t, i int, what string) string {
+	start, n := f.vector(t, i, 1, what)
+	return string(f.b[start : start+n])
+}
+
+// keyValues reads the KeyValue tables (key, value) of the vector field i
+// of the table at t and calls fn, when not nil, with each.
+func (f *fbuf) keyValues(t, i int, what string, fn func(k, v string)) {
+	start, n := f.vector(t, i, 4, what)
+	for j := range n {
+		kv := f.tableAt(f.ref(start + 4*j))
+		k, v := f.str(kv, 0, "bytes of metadata keys"), f.str(kv, 1, "bytes of metadata values")
+		if fn != nil && f.err == nil {
+			fn(k, v)
+		}
+	}
+}
+
+// cappedAllocator is the allocator Decode gives arrow-go: it refuses an
+// allocation larger than the file with a panic Decode's recover turns
+// into an error. Reading a recording allocates nothing through it (the
+// columns point into the file; arrow-go allocates only to decompress or
+// to merge dictionaries, which checkLayout refuses), so it is a second
+// guard against a declared size checkLayout does not know of.
+type cappedAllocator struct{ limit int }
+
+// allocRefused is the panic value of a refused allocation.
+type allocRefused struct{ size, limit int }
+
+func (a cappedAllocator) Allocate(size int) []byte {
+	if size > a.limit {
+		panic(allocRefused{size, a.limit})
+	}
+	return memory.DefaultAllocator.Allocate(size)
+}
+
+func (a cappedAllocator) Reallocate(size int, b []byte) []byte {
+	if size > a.limit {
+		panic(allocRefused{size, a.limit})
+	}
+	return memory.DefaultAllocator.Reallocate(size, b)
+}
+
+func (a cappedAllocator) Free(b []byte) { memory.DefaultAllocator.Free(b) }

@@ -337,6 +337,10 @@ func FuzzDecode(f *testing.F) {
 		bad[at] ^= 0xff
 		f.Add(bad)
 	}
+	// Files declaring more than they hold (see TestDecodeRefusesHugeDeclarations).
+	f.Add(craftedArrow(f, func(s arrowSpots) int { return s.fields }, 4, 1<<31-1))
+	f.Add(craftedArrow(f, func(s arrowSpots) int { return s.rows }, 8, 1e12))
+	f.Add(craftedArrow(f, func(s arrowSpots) int { return s.valuesLen }, 8, 1<<40))
 	f.Fuzz(func(t *testing.T, data []byte) {
 		rec, err := Decode("damaged.arrow", data)
 		if err == nil && rec == nil {

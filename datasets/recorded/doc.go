@@ -39,11 +39,10 @@
 // that must not use partial data treat any error as failure. Decode checks
 // the schema and metadata of a recording; a file damaged inside its
 // flatbuffers, on which arrow-go panics, is reported as a corrupt-file
-// error naming the file. Known gap: a crafted file whose metadata declares
-// a huge element count makes arrow-go's reader attempt an allocation of
-// that size, which no recover can catch (found by FuzzDecode; not yet run
-// by `make fuzz`). Checking the declared counts against the file size
-// before decoding would close it.
+// error naming the file. arrow-go trusts the counts a file declares and
+// allocates by them, beyond what any recover can catch (found by
+// FuzzDecode), so Decode first checks every count, offset and length in
+// the footer and the record batch's metadata against the file size.
 //
 // # Memory
 //
