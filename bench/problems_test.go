@@ -405,6 +405,12 @@ use = "pf"
 	if err != nil {
 		t.Fatal(err)
 	}
+	// The shipped suite parses too.
+	if data, err := os.ReadFile("suites/attitude.toml"); err != nil {
+		t.Fatal(err)
+	} else if _, err := ParseSuite("suites/attitude.toml", data, Builtin()); err != nil {
+		t.Fatal(err)
+	}
 	one, err := Run(s, Options{Workers: 1})
 	if err != nil {
 		t.Fatal(err)
