@@ -4,6 +4,8 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
+	"strconv"
 	"strings"
 
 	"github.com/apache/arrow-go/v18/parquet"
@@ -35,32 +37,48 @@ const (
 type colSpec struct {
 	name string
 	kind colKind
+	// later marks a column added after the file's first version: a reader
+	// takes a file without it as one whose values are all null.
+	later bool
 }
+
+// The columns added to each file since its first version, by the change
+// that added them (git log -p results/rows.go): mean_ess and repairs to
+// the summary and repairs to the runs with the count of covariance
+// repairs; evals_per_step to the summary with estbench compare and budget;
+// pred_rmse to all three with the one-step-ahead prediction error. Files
+// of earlier versions lack them, and the readers accept that.
+var (
+	summaryLater = []string{"mean_ess", "repairs", "evals_per_step", "pred_rmse"}
+	runLater     = []string{"repairs", "pred_rmse"}
+	curveLater   = []string{"pred_rmse"}
+)
 
 var summarySpecs = specsOf(SummaryColumns, map[string]colKind{
 	"problem": kString, "filter": kString, "config": kString, "note": kString,
 	"runs": kInt, "diverged": kInt,
-})
+}, summaryLater)
 
 var runSpecs = specsOf(RunColumns, map[string]colKind{
 	"problem": kString, "filter": kString, "config": kString, "reason": kString,
 	"run": kInt, "div_step": kInt, "diverged": kBool, "repairs": kInt,
-})
+}, runLater)
 
 var curveSpecs = specsOf(CurveColumns, map[string]colKind{
 	"problem": kString, "filter": kString, "config": kString,
 	"step": kInt, "runs": kInt,
-})
+}, curveLater)
 
-// specsOf gives each column its kind; columns not in kinds are float.
-func specsOf(names []string, kinds map[string]colKind) []colSpec {
+// specsOf gives each column its kind (columns not in kinds are float) and
+// marks those in later.
+func specsOf(names []string, kinds map[string]colKind, later []string) []colSpec {
 	s := make([]colSpec, len(names))
 	for i, n := range names {
 		k, ok := kinds[n]
 		if !ok {
 			k = kFloat
 		}
-		s[i] = colSpec{name: n, kind: k}
+		s[i] = colSpec{name: n, kind: k, later: slices.Contains(later, n)}
 	}
 	return s
 }
@@ -428,7 +446,12 @@ type table struct {
 	flts  [][]float64 // nulls as NaN
 }
 
-// readTable reads a file whose columns must be exactly specs.
+// readTable reads the columns specs of a file, found by name. A column of
+// specs that the file lacks is an error unless it is marked later; then it
+// reads as all null (NaN; 0 for an integer column). A column of the file
+// that specs does not name is ignored: a file of a newer estbench, with a
+// column added since, reads as it would without it. A column of the wrong
+// type, or named twice, is an error naming the file and the column.
 func readTable(path string, specs []colSpec) (*table, error) {
 	fr, err := file.OpenParquetFile(path, false)
 	if err != nil {
@@ -436,17 +459,35 @@ func readTable(path string, specs []colSpec) (*table, error) {
 	}
 	defer fr.Close()
 	sc := fr.MetaData().Schema
-	if sc.NumColumns() != len(specs) {
-		return nil, fmt.Errorf("results: %s: %d columns, want %d (%s)", path, sc.NumColumns(), len(specs), specNames(specs))
-	}
-	want := [...]parquet.Type{kString: parquet.Types.ByteArray, kInt: parquet.Types.Int64,
-		kBool: parquet.Types.Boolean, kFloat: parquet.Types.Double}
-	for i, s := range specs {
-		c := sc.Column(i)
-		if c.Name() != s.name || c.PhysicalType() != want[s.kind] {
-			return nil, fmt.Errorf("results: %s: column %d is %s %s, want %s %s",
-				path, i, c.Name(), c.PhysicalType(), s.name, want[s.kind])
+	at := make(map[string]int, sc.NumColumns()) // index of each column of the file, by name
+	for j := range sc.NumColumns() {
+		p := sc.Column(j).Path()
+		if _, dup := at[p]; dup {
+			return nil, fmt.Errorf("results: %s: column %s appears twice", path, p)
 		}
+		at[p] = j
+	}
+	idx := make([]int, len(specs)) // file column of each spec; -1 when absent
+	for i, s := range specs {
+		j, ok := at[s.name]
+		switch {
+		case !ok && s.later:
+			idx[i] = -1
+			continue
+		case !ok:
+			return nil, fmt.Errorf("results: %s: no column %s (want %s; of these, %s may be absent in files of earlier versions)",
+				path, s.name, specNames(specs), laterNames(specs))
+		}
+		c := sc.Column(j)
+		gotRep, wantRep := c.SchemaNode().RepetitionType(), parquet.Repetitions.Required
+		if s.kind == kFloat {
+			wantRep = parquet.Repetitions.Optional
+		}
+		if c.PhysicalType() != colTypes[s.kind] || gotRep != wantRep {
+			return nil, fmt.Errorf("results: %s: column %s is %s %s, want %s %s",
+				path, s.name, gotRep, c.PhysicalType(), wantRep, colTypes[s.kind])
+		}
+		idx[i] = j
 	}
 	t := &table{
 		strs: make([][]string, len(specs)), ints: make([][]int64, len(specs)),
@@ -456,7 +497,11 @@ func readTable(path string, specs []colSpec) (*table, error) {
 		rg := fr.RowGroup(g)
 		n := int(rg.NumRows())
 		for i, s := range specs {
-			cr, err := rg.Column(i)
+			if idx[i] < 0 {
+				t.readAbsent(i, s.kind, n)
+				continue
+			}
+			cr, err := rg.Column(idx[i])
 			if err != nil {
 				return nil, fmt.Errorf("results: %s: row group %d column %s: %w", path, g, s.name, err)
 			}
@@ -467,6 +512,26 @@ func readTable(path string, specs []colSpec) (*table, error) {
 		t.rows += n
 	}
 	return t, nil
+}
+
+// colTypes are the physical types of the kinds.
+var colTypes = [...]parquet.Type{kString: parquet.Types.ByteArray, kInt: parquet.Types.Int64,
+	kBool: parquet.Types.Boolean, kFloat: parquet.Types.Double}
+
+// readAbsent fills n rows of a column the file does not have: NaN for a
+// float, 0 for an integer (only later columns are absent, and none of them
+// is a string or a flag).
+func (t *table) readAbsent(i int, kind colKind, n int) {
+	switch kind {
+	case kFloat:
+		for range n {
+			t.flts[i] = append(t.flts[i], math.NaN())
+		}
+	case kInt:
+		t.ints[i] = append(t.ints[i], make([]int64, n)...)
+	default:
+		panic("results: absent column of kind " + strconv.Itoa(int(kind)))
+	}
 }
 
 func (t *table) readColumn(i int, kind colKind, cr file.ColumnChunkReader, n int) error {
@@ -519,10 +584,31 @@ func specNames(specs []colSpec) string {
 	return strings.Join(n, ", ")
 }
 
+func laterNames(specs []colSpec) string {
+	var n []string
+	for _, s := range specs {
+		if s.later {
+			n = append(n, s.name)
+		}
+	}
+	return strings.Join(n, ", ")
+}
+
 // ReadSummaryParquet reads a file written by WriteSummaryParquet. A row with
 // runs > 0 is Applicable and its note is split at "; " into Warnings; a
 // row with runs 0 is not, and its note is Note. Metrics not in the file
 // (NISInBounds) are NaN.
+//
+// # Files of other versions
+//
+// Columns are found by name, in any order. A file of an earlier estbench
+// may lack the columns added since (pred_rmse, evals_per_step, mean_ess,
+// repairs): their metrics read as NaN, not measured, and Repairs, a
+// count, as 0, which there means not counted rather than none needed.
+// Columns the reader does not know (a file of a later version) are
+// ignored. Any other column missing, or of another type, is an error
+// naming the file and the column. ReadRunsParquet and ReadCurvesParquet
+// follow the same rule.
 func ReadSummaryParquet(path string) ([]SummaryRow, error) {
 	t, err := readTable(path, summarySpecs)
 	if err != nil {
@@ -552,7 +638,9 @@ func ReadSummaryParquet(path string) ([]SummaryRow, error) {
 	return rows, nil
 }
 
-// ReadRunsParquet reads a file written by RunsWriter.
+// ReadRunsParquet reads a file written by RunsWriter, or by an earlier
+// version without pred_rmse (read as NaN) or repairs (read as 0, not
+// counted); see ReadSummaryParquet.
 func ReadRunsParquet(path string) ([]RunRow, error) {
 	t, err := readTable(path, runSpecs)
 	if err != nil {
@@ -572,7 +660,8 @@ func ReadRunsParquet(path string) ([]RunRow, error) {
 	return rows, nil
 }
 
-// ReadCurvesParquet reads a file written by CurvesWriter.
+// ReadCurvesParquet reads a file written by CurvesWriter, or by an earlier
+// version without pred_rmse (read as NaN); see ReadSummaryParquet.
 func ReadCurvesParquet(path string) ([]CurveRow, error) {
 	t, err := readTable(path, curveSpecs)
 	if err != nil {
