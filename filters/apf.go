@@ -135,6 +135,9 @@ func (f *APF) Update(z []float64, k int) error {
 	if len(z) != nz {
 		panic("filters: apf: dimension mismatch")
 	}
+	if !p.noiseAt(k) {
+		return ErrNotPosDef
+	}
 	// The innovation from the bootstrap prediction under the prior weights.
 	p.measure(p.x, k)
 	p.innovation(z)

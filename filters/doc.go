@@ -8,7 +8,9 @@
 // propagates the estimate from step k-1 to step k; Update(z, k) conditions on
 // the measurement z of step k, and a nil z means "no measurement" (the
 // estimate stays the prediction). EstimateTo copies the current mean and
-// covariance into caller-provided destinations.
+// covariance into caller-provided destinations. The measurement noise
+// covariance of Update(z, k) is Model.R, or the value Model.RAt gives for
+// step k when the model has one: every filter here honours it.
 //
 // # Memory
 //

@@ -63,8 +63,9 @@ type EnKF struct {
 
 	lq    []float64 // PSD lower factor of Q, Nw*Nw
 	qcols []int     // its nonzero columns
-	lr    []float64 // PSD lower factor of R, Nz*Nz
+	lr    []float64 // PSD lower factor of R, Nz*Nz (of the step's R with Model.RAt)
 	rcols []int     // its nonzero columns
+	rbuf  []float64 // Model.RAt's value, Nz*Nz
 
 	rng *rand.Rand
 
@@ -130,6 +131,7 @@ func NewEnKF(m *Model, cfg EnKFConfig) (*EnKF, error) {
 		m: m, n: n, inflate: r,
 		lq:   make([]float64, nwd*nwd),
 		lr:   make([]float64, nz*nz),
+		rbuf: make([]float64, nz*nz),
 		x:    make([]float64, n*nx),
 		alt:  make([]float64, n*nx),
 		mean: make([]float64, nx),
@@ -153,7 +155,7 @@ func NewEnKF(m *Model, cfg EnKFConfig) (*EnKF, error) {
 		return nil, ErrNotPosDef
 	}
 	f.qcols = nonzeroCols(nil, f.lq, nwd)
-	f.rcols = nonzeroCols(nil, f.lr, nz)
+	f.rcols = nonzeroCols(make([]int, 0, nz), f.lr, nz)
 	return f, nil
 }
 
@@ -262,6 +264,14 @@ func (f *EnKF) Update(z []float64, k int) error {
 	if len(z) != nz {
 		panic("filters: enkf: dimension mismatch")
 	}
+	r := m.R
+	if m.RAt != nil { // this step's R and its factor for the perturbations
+		r = m.rAt(f.rbuf, k)
+		if !semiChol(f.lr, r, nz) {
+			return ErrNotPosDef
+		}
+		f.rcols = nonzeroCols(f.rcols[:0], f.lr, nz)
+	}
 	if m.HMany != nil {
 		m.HMany(f.y, f.x, k)
 	} else {
@@ -274,7 +284,7 @@ func (f *EnKF) Update(z []float64, k int) error {
 	c := 1 / float64(f.n-1)
 	for a := 0; a < nz; a++ {
 		for b := 0; b <= a; b++ {
-			v := wsum2(f.dy[a:], f.dy[b:], nil, nz)*c + m.R[a*nz+b]
+			v := wsum2(f.dy[a:], f.dy[b:], nil, nz)*c + r[a*nz+b]
 			f.s[a*nz+b], f.s[b*nz+a] = v, v
 		}
 	}

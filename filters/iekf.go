@@ -133,6 +133,7 @@ func (f *IEKF) Update(z []float64, k int) error {
 	m := c.m
 	copy(f.xbar, c.x)
 	copy(f.xi, c.x)
+	rk := m.rAt(c.rbuf, k)
 	f.iters = 0
 	for it := 0; it < f.maxIter; it++ {
 		f.iters++
@@ -148,7 +149,7 @@ func (f *IEKF) Update(z []float64, k int) error {
 		for _, i := range m.AngleMeas {
 			f.r[i] = wrapAngle(f.r[i])
 		}
-		if !c.gain() { // P̄ is c.p throughout
+		if !c.gain(rk) { // P̄ is c.p throughout
 			return ErrNotPosDef
 		}
 		if it == 0 {
@@ -184,7 +185,7 @@ func (f *IEKF) Update(z []float64, k int) error {
 		}
 	}
 	copy(c.x, f.xi)
-	c.joseph()
+	c.joseph(rk)
 	copy(c.nu, f.nu0)
 	copy(c.s, f.s0)
 	if !allFinite(c.x) || !allFinite(c.p) {

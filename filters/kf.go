@@ -147,11 +147,13 @@ type linCore struct {
 	xt   []float64 // perturbed point for differences (nx)
 	dp   []float64 // function value at x + h (max(nx,nz))
 	dm   []float64 // function value at x - h (max(nx,nz))
+	rbuf []float64 // Model.RAt's value (nz*nz)
 }
 
 func (c *linCore) init(m *Model) {
 	nx, nz, nd := m.Nx, m.Nz, m.Nd()
 	c.m, c.nx, c.nz, c.nd = m, nx, nz, nd
+	c.rbuf = make([]float64, len(m.R))
 	c.x = make([]float64, nx)
 	c.p = make([]float64, nd*nd)
 	c.a = make([]float64, nd*nd)
@@ -236,7 +238,8 @@ func (c *linCore) update(z []float64, k int) error {
 		c.nu[i] = wrapAngle(c.nu[i])
 	}
 
-	if !c.gain() {
+	r := c.m.rAt(c.rbuf, k)
+	if !c.gain(r) {
 		return ErrNotPosDef
 	}
 
@@ -263,7 +266,7 @@ func (c *linCore) update(z []float64, k int) error {
 			c.x[i] = wrapAngle(c.x[i])
 		}
 	}
-	c.joseph()
+	c.joseph(r)
 
 	if c.trackLik {
 		c.addLogLik()
@@ -275,14 +278,14 @@ func (c *linCore) update(z []float64, k int) error {
 	return nil
 }
 
-// gain forms S = C P Cᵀ + R, its Cholesky factor (with the jitter repair,
-// if on) and K = P Cᵀ S⁻¹ from c.cj and c.p. It reports false if S is not
-// positive definite.
-func (c *linCore) gain() bool {
+// gain forms S = C P Cᵀ + R for the step's R = r, its Cholesky factor
+// (with the jitter repair, if on) and K = P Cᵀ S⁻¹ from c.cj and c.p. It
+// reports false if S is not positive definite.
+func (c *linCore) gain(r []float64) bool {
 	nx, nz := c.nd, c.nz
 	abt(c.pct, c.p, c.cj, nx, nx, nz, false)
 	mulDot(c.s, c.cj, c.pct, nz, nx, nz)
-	s, r := c.s[:nz*nz], c.m.R[:nz*nz]
+	s, r := c.s[:nz*nz], r[:nz*nz]
 	for i := range s {
 		s[i] += r[i]
 	}
@@ -296,13 +299,13 @@ func (c *linCore) gain() bool {
 }
 
 // joseph replaces P by the Joseph form (I−KC) P (I−KC)ᵀ + K R Kᵀ for the
-// gain c.k and Jacobian c.cj, evaluated as written, as the sum of two
+// gain c.k, Jacobian c.cj and the step's R = r, evaluated as written, as the sum of two
 // congruences of positive semi-definite matrices: it stays positive
 // semi-definite under rounding for any gain. (The algebraically equal
 // P − K C P, or the Joseph form expanded into P − K (P Cᵀ)ᵀ + ..., lose
 // that when K C P nearly cancels P, as for a measurement far more precise
 // than the prediction.)
-func (c *linCore) joseph() {
+func (c *linCore) joseph(r []float64) {
 	nx, nz := c.nd, c.nz
 	// A = I − K C in ap, in one pass.
 	k, cj, a := c.k[:nx*nz], c.cj[:nz*nx], c.ap[:nx*nx]
@@ -328,7 +331,7 @@ func (c *linCore) joseph() {
 		row[i] += 1
 	}
 	abt(c.tmp, a, c.p, nx, nx, nx, false) // A P (P symmetric)
-	mulDot(c.kr, k, c.m.R, nx, nz, nz)    // K R
+	mulDot(c.kr, k, r, nx, nz, nz)        // K R
 	// Upper triangle of (A P) Aᵀ + (K R) Kᵀ, mirrored.
 	p, kr := c.p[:nx*nx], c.kr[:nx*nz]
 	abtUpper(p, c.tmp, a, nx, nx, nx, true)

@@ -69,6 +69,27 @@ func TestManifoldEuclideanEqualsKF(t *testing.T) {
 	}
 }
 
+// The same on CV2DVaryingR, whose measurement noise covariance changes
+// from step to step (Model.RAt): the manifold paths take each step's R.
+func TestManifoldEuclideanVaryingREqualsKF(t *testing.T) {
+	for name, mk := range map[string]func(m *filters.Model) (filters.Filter, error){
+		"ekf":  func(m *filters.Model) (filters.Filter, error) { return filters.NewEKF(m, filters.EKFConfig{}) },
+		"ukf":  func(m *filters.Model) (filters.Filter, error) { return filters.NewUKF(m, filters.DefaultUKF()) },
+		"ckf":  func(m *filters.Model) (filters.Filter, error) { return filters.NewCKF(m, filters.CKFConfig{}) },
+		"ghkf": func(m *filters.Model) (filters.Filter, error) { return filters.NewGHKF(m, filters.GHKFConfig{}) },
+	} {
+		t.Run(name, func(t *testing.T) {
+			filtertest.EqualsKFVaryingR(t, func(m *filters.Model) filters.Filter {
+				f, err := mk(withEuclidean(m))
+				if err != nil {
+					t.Fatalf("new: %v", err)
+				}
+				return f
+			}, 1e-9)
+		})
+	}
+}
+
 // Filters without manifold support refuse such a model with ErrManifold.
 func TestManifoldRefused(t *testing.T) {
 	m := withEuclidean(filtertest.CV2D(0.5, 4))
@@ -317,6 +338,26 @@ func TestManifoldNoAllocs(t *testing.T) {
 	}
 	filtertest.NoAllocs(t, ekf, m, x0, p0, z)
 	filtertest.NoAllocs(t, ukf, m, x0, p0, z)
+
+	// With a per-step R (Model.RAt) as well.
+	mr := *m
+	mr.RAt = func(dst []float64, k int) bool {
+		copy(dst, m.R)
+		for i := 0; i < 6; i++ {
+			dst[i*6+i] *= 1 + float64(k%3)
+		}
+		return k%4 != 0
+	}
+	for _, mk := range []func(*filters.Model) (filters.Filter, error){
+		func(m *filters.Model) (filters.Filter, error) { return filters.NewEKF(m, filters.EKFConfig{}) },
+		func(m *filters.Model) (filters.Filter, error) { return filters.NewUKF(m, filters.DefaultUKF()) },
+	} {
+		f, err := mk(&mr)
+		if err != nil {
+			t.Fatal(err)
+		}
+		filtertest.NoAllocs(t, f, &mr, x0, p0, z)
+	}
 }
 
 // BenchmarkManifoldAttitude is one predict+update step of the

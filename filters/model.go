@@ -37,6 +37,20 @@ type Model struct {
 	Q []float64 // process noise covariance, Nx*Nx
 	R []float64 // measurement noise covariance, Nz*Nz
 
+	// RAt, if not nil, gives a measurement noise covariance per step: it
+	// writes the covariance of step k into dst (the size of R: Nz*Nz, or
+	// Nv*Nv with HV) and reports true, or reports false, and R is that of
+	// step k (a fix whose receiver states its accuracy, next to one that
+	// does not). R stays the reference value where a filter needs one
+	// fixed matrix at set-up (its size, the factorization checks of New*
+	// and Reset); every Update uses the value of its step. A filter given a
+	// model with RAt factors that covariance in each Update (Cholesky, or
+	// the semi-definite factor where R may be singular), without
+	// allocating; a value that does not factor makes Update return
+	// ErrNotPosDef. RAt must not allocate, and must depend on k only and
+	// be safe to call from several filters at once (it only reads).
+	RAt func(dst []float64, k int) bool
+
 	// Linear reports that F and H are linear maps (F(x) = A x, H(x) = C x),
 	// with A and C given by FJac and HJac at any point.
 	Linear bool
@@ -140,6 +154,15 @@ type ESSer interface {
 // repaired factorizations since the last Reset.
 type Repairer interface {
 	Repairs() int
+}
+
+// rAt returns the measurement noise covariance of step k: the value
+// Model.RAt writes into buf (len(R)) if it reports one, else R.
+func (m *Model) rAt(buf []float64, k int) []float64 {
+	if m.RAt != nil && m.RAt(buf, k) {
+		return buf
+	}
+	return m.R
 }
 
 // Additive reports whether both noises enter additively.

@@ -113,6 +113,8 @@ type PF struct {
 	vcols []int     // the nonzero columns of lv
 	sqQ   float64   // sqrt(Q) when scalar
 	halfR float64   // -1/(2R) when scalar
+	rk    []float64 // R of the current Update: Model.R, or rbuf (Model.RAt)
+	rbuf  []float64 // Model.RAt's value, len(R)
 
 	rng *rand.Rand // stream of the current run
 
@@ -234,13 +236,41 @@ func newPF(m *Model, cfg PFConfig, name string) (*PF, error) {
 		if !semiChol(f.lv, m.R, nvd) {
 			return nil, ErrNotPosDef
 		}
-		f.vcols = nonzeroCols(nil, f.lv, nvd)
+		f.vcols = nonzeroCols(make([]int, 0, nvd), f.lv, nvd)
 	} else if m.MeasLogLik == nil && !cholesky(f.lr, m.R, nz) {
 		return nil, ErrNotPosDef
 	}
 	f.sqQ = f.lq[0]
 	f.halfR = -0.5 / m.R[0]
+	f.rk = m.R
+	f.rbuf = make([]float64, len(m.R))
 	return f, nil
+}
+
+// noiseAt sets f.rk to the measurement noise covariance of step k and,
+// when the model has RAt, factors it as newPF factors R (lv with HV, lr
+// for the Gaussian likelihood, and halfR). It reports false if that
+// factorization fails.
+func (f *PF) noiseAt(k int) bool {
+	m := f.m
+	if m.RAt == nil {
+		return true
+	}
+	r := m.rAt(f.rbuf, k)
+	f.rk = r
+	switch {
+	case m.HV != nil:
+		if !semiChol(f.lv, r, m.Nv) {
+			return false
+		}
+		f.vcols = nonzeroCols(f.vcols[:0], f.lv, m.Nv)
+	case m.MeasLogLik == nil:
+		if !cholesky(f.lr, r, m.Nz) {
+			return false
+		}
+	}
+	f.halfR = -0.5 / r[0]
+	return true
 }
 
 // Reset draws the particles from N(x0, p0) and sets equal weights.
@@ -390,6 +420,9 @@ func (f *PF) Update(z []float64, k int) error {
 	if len(z) != nz {
 		panic("filters: " + f.name + ": dimension mismatch")
 	}
+	if !f.noiseAt(k) {
+		return ErrNotPosDef
+	}
 	f.measure(f.x, k)
 	var mx float64
 	if f.scalar {
@@ -532,7 +565,7 @@ func (f *PF) logLikScalar(z float64) float64 {
 	}
 	f.nu[0] = sd
 	f.zm[0] = z - sd
-	f.s[0] = max(sd2-sd*sd, 0) + f.m.R[0]
+	f.s[0] = max(sd2-sd*sd, 0) + f.rk[0]
 	return mx
 }
 
@@ -543,7 +576,7 @@ func (f *PF) innovation(z []float64) {
 	m := f.m
 	weightedMoments(f.zm, f.s, f.zh, f.weights(), m.Nz, m.AngleMeas, f.res[:len(f.zh)])
 	if m.HV == nil {
-		for i, rv := range m.R {
+		for i, rv := range f.rk {
 			f.s[i] += rv
 		}
 	}

@@ -823,11 +823,19 @@ type kfLimit struct {
 // those named) for N = 100, 1000, 10000 and checks the gaps against
 // limit(case, gap at N = 10000).
 func checkApproachesKF(t *testing.T, newF func(m *filters.Model, n int) filters.Filter, limit func(c kfCase, last gap) kfLimit, only ...string) {
-	ns := []float64{100, 1000, 10000}
+	var cases []kfCase
 	for _, c := range kfCases() {
-		if len(only) > 0 && !slices.Contains(only, c.name) {
-			continue
+		if len(only) == 0 || slices.Contains(only, c.name) {
+			cases = append(cases, c)
 		}
+	}
+	checkApproachesKFOn(t, cases, newF, limit)
+}
+
+// checkApproachesKFOn is checkApproachesKF on the given cases.
+func checkApproachesKFOn(t *testing.T, cases []kfCase, newF func(m *filters.Model, n int) filters.Filter, limit func(c kfCase, last gap) kfLimit) {
+	ns := []float64{100, 1000, 10000}
+	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
 			gs := make([]gap, len(ns))
 			for i, n := range ns {

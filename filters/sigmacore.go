@@ -25,7 +25,8 @@ type spCore struct {
 
 	// workspace, sized at set-up, reused every step
 	lw   []float64 // lower square root of Q, nw x nw, set at Reset (augW)
-	lv   []float64 // lower square root of R, nv x nv, set at Reset (augV)
+	lv   []float64 // lower square root of R, nv x nv, set at Reset (augV), and in each Update with Model.RAt
+	rbuf []float64 // Model.RAt's value (len(R))
 	l    []float64 // Cholesky factor of P (nd*nd)
 	la   []float64 // diag(L, lw or lv), na x na (augmented steps only)
 	dxT  []float64 // deviations L uᵢ of the points, transposed: na x np
@@ -97,6 +98,7 @@ func (c *spCore) init(m *Model, mk setMaker, augment bool, jit jitter) error {
 	c.p = make([]float64, nx*nx)
 	c.lw = make([]float64, c.nw*c.nw)
 	c.lv = make([]float64, c.nv*c.nv)
+	c.rbuf = make([]float64, len(m.R))
 	c.l = make([]float64, nx*nx)
 	c.la = make([]float64, na*na)
 	c.dxT = make([]float64, na*np)
@@ -270,10 +272,16 @@ func (c *spCore) update(z []float64, k int) error {
 	}
 	s := &c.su
 	np := s.np
+	m := c.m
+	r := m.rAt(c.rbuf, k)
+	// With a per-step R the augmented square root is that of this step's
+	// (R's again when RAt reports none: an earlier step may have replaced it).
+	if c.augV && m.RAt != nil && !semiChol(c.lv, r, c.nv) {
+		return ErrNotPosDef
+	}
 	if !c.draw(s, c.augV, c.lv, c.nv) {
 		return ErrNotPosDef
 	}
-	m := c.m
 	switch {
 	case c.augV:
 		na := s.n
@@ -297,11 +305,11 @@ func (c *spCore) update(z []float64, k int) error {
 	}
 	s.mean(c.zhat, c.zs, nz, m.AngleMeas)
 	s.deviate(c.dt, c.zs, c.zhat, nz, m.AngleMeas)
-	r := m.R
+	rs := r
 	if c.augV {
-		r = nil
+		rs = nil
 	}
-	s.covAdd(c.s, c.dt, r, nz) // a non-finite S fails the factorization
+	s.covAdd(c.s, c.dt, rs, nz) // a non-finite S fails the factorization
 	if !c.jit.chol(c.ls, c.s, nz) {
 		return ErrNotPosDef
 	}
@@ -361,7 +369,7 @@ func (c *spCore) update(z []float64, k int) error {
 	}
 	var krk []float64 // K R Kᵀ, exactly symmetric
 	if !c.augV {
-		mulDot(c.kr, c.k, m.R, nd, nz, nz)
+		mulDot(c.kr, c.k, r, nd, nz, nz)
 		abt(c.krk, c.kr, c.k, nd, nz, nd, true)
 		krk = c.krk
 	}

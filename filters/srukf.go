@@ -40,8 +40,8 @@ type SRUKFConfig struct {
 //	S = cholupdate(S⁻, K Sz, −1),
 //
 // one rank-one downdate per column of U = K Sz. √Q and √R are lower
-// triangular factors computed at Reset; singular Q or R are allowed (zero
-// columns). A downdate that fails (the covariance would not be positive
+// triangular factors computed at Reset (√R in each Update instead when the
+// model has RAt); singular Q or R are allowed (zero columns). A downdate that fails (the covariance would not be positive
 // definite) returns ErrNotPosDef, unless the jitter repair is on.
 //
 // The square-root form keeps P = S Sᵀ symmetric positive semi-definite by
@@ -63,7 +63,8 @@ type SRUKF struct {
 
 	// workspace, sized at set-up, reused every step
 	lq   []float64 // lower square root of Q (nx*nx), set at Reset
-	lr   []float64 // lower square root of R (nz*nz), set at Reset
+	lr   []float64 // lower square root of R (nz*nz), set at Reset, and in each Update with Model.RAt
+	rbuf []float64 // Model.RAt's value (nz*nz)
 	dxT  []float64 // point deviations √(n+λ)·(±Sⱼ), transposed: nx x np
 	pts  []float64 // sigma points, np x nx
 	ys   []float64 // propagated points, np x nx
@@ -110,6 +111,7 @@ func NewSRUKF(m *Model, cfg SRUKFConfig) (*SRUKF, error) {
 		sl:   make([]float64, nx*nx),
 		lq:   make([]float64, nx*nx),
 		lr:   make([]float64, nz*nz),
+		rbuf: make([]float64, nz*nz),
 		dxT:  make([]float64, nx*np),
 		pts:  make([]float64, np*nx),
 		ys:   make([]float64, np*nx),
@@ -252,6 +254,11 @@ func (f *SRUKF) Update(z []float64, k int) error {
 	}
 	s := &f.set
 	np := s.np
+	// A per-step R: its square root for this step (R's again when RAt
+	// reports none, as an earlier step may have replaced it).
+	if f.m.RAt != nil && !semiChol(f.lr, f.m.rAt(f.rbuf, k), nz) {
+		return ErrNotPosDef
+	}
 	s.devTo(f.dxT, f.sl)
 	s.pointsTo(f.pts, f.x, f.dxT)
 	if f.m.HMany != nil {

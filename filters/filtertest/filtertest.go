@@ -2,15 +2,17 @@
 // must have, as checks a filter's own test calls:
 //
 //   - EqualsKF: on a linear-Gaussian model it gives the Kalman filter's mean
-//     and covariance (sigma-point filters exactly, up to rounding);
+//     and covariance (sigma-point filters exactly, up to rounding), and
+//     EqualsKFVaryingR the same with a measurement noise covariance that
+//     changes from step to step (Model.RAt);
 //   - NoAllocs: Reset, Predict, Update, EstimateTo (and InnovationTo, ESS
 //     when implemented) allocate nothing after set-up;
 //   - HandlesMissing: Update(nil) leaves the prediction unchanged and an
 //     Innovator then reports no innovation.
 //
-// It also exports the linear-Gaussian test model CV2D and a simulator for
-// any additive-noise Model, for tests that need data (particle filter
-// convergence, for one).
+// It also exports the linear-Gaussian test models CV2D and CV2DVaryingR
+// and a simulator for any additive-noise Model, for tests that need data
+// (particle filter convergence, for one).
 package filtertest
 
 import (
@@ -89,6 +91,45 @@ func CV2D(q, r float64) *filters.Model {
 	}
 }
 
+// CV2DVaryingR returns CV2D(q, r) with a measurement noise covariance
+// that changes from step to step through Model.RAt: at step k with
+// k mod 6 = 0 RAt reports none (R = r·I is used), and otherwise
+//
+//	R_k = [[a, c], [c, b]],  a = r·(0.2 + 0.3·(k mod 5)),
+//	b = r·(2.5 − 0.4·(k mod 3)),  c = (−1)^k·0.3·√(a b),
+//
+// positive definite (correlation ±0.3) with variances from 0.2r to 2.5r,
+// so both the per-step values and the fall-back to R are exercised. RAt
+// allocates nothing.
+func CV2DVaryingR(q, r float64) *filters.Model {
+	m := CV2D(q, r)
+	m.RAt = func(dst []float64, k int) bool {
+		if k%6 == 0 {
+			return false
+		}
+		a := r * (0.2 + 0.3*float64(k%5))
+		b := r * (2.5 - 0.4*float64(k%3))
+		c := 0.3 * math.Sqrt(a*b)
+		if k%2 == 1 {
+			c = -c
+		}
+		dst[0], dst[1], dst[2], dst[3] = a, c, c, b
+		return true
+	}
+	return m
+}
+
+// RAtOrR returns the measurement noise covariance of step k of m: the
+// value of m.RAt if it reports one, else m.R (a fresh slice).
+func RAtOrR(m *filters.Model, k int) []float64 {
+	r := make([]float64, len(m.R))
+	if m.RAt != nil && m.RAt(r, k) {
+		return r
+	}
+	copy(r, m.R)
+	return r
+}
+
 // CV2DPrior returns the prior used with CV2D by the checks here: mean
 // [0, 1, 0, -0.5] and covariance diag(100, 4, 100, 4).
 func CV2DPrior() (x0, p0 []float64) {
@@ -106,7 +147,8 @@ func CV2DPrior() (x0, p0 []float64) {
 // from the true initial state x0: truth[k-1] is the state at step k and
 // z[k-1] its measurement. Noise is drawn from rng through a symmetric
 // square root of Q and R (eigendecomposition), so singular noise
-// covariances such as CV2D's Q work. Callers mark a measurement missing by
+// covariances such as CV2D's Q work; the measurement noise of step k is
+// that of m.RAt when the model has it (RAtOrR). Callers mark a measurement missing by
 // setting z[k-1] = nil. Simulate allocates; it is for tests.
 func Simulate(m *filters.Model, x0 []float64, steps int, rng *rand.Rand) (truth, z [][]float64) {
 	sq := sqrtPSD(m.Q, m.Nx)
@@ -121,6 +163,9 @@ func Simulate(m *filters.Model, x0 []float64, steps int, rng *rand.Rand) (truth,
 		addNoise(xn, sq, e[:m.Nx], rng)
 		zk := make([]float64, m.Nz)
 		m.H(zk, xn, k)
+		if m.RAt != nil {
+			sr = sqrtPSD(RAtOrR(m, k), m.Nz)
+		}
 		addNoise(zk, sr, e[:m.Nz], rng)
 		truth[k-1], z[k-1] = xn, zk
 		x = xn
@@ -185,7 +230,20 @@ func eqMissing(k int) bool { return k == 7 || k == 19 || (k >= 33 && k <= 35) ||
 // The data come from a fixed PCG seed.
 func EqualsKF(t testing.TB, newFilter func(m *filters.Model) filters.Filter, tol float64) {
 	t.Helper()
-	m := CV2D(0.5, 4)
+	equalsKF(t, CV2D(0.5, 4), newFilter, tol)
+}
+
+// EqualsKFVaryingR is EqualsKF on CV2DVaryingR(0.5, 4), whose
+// measurement noise covariance changes from step to step (Model.RAt), and
+// whose data are simulated with it. The reference is the KF with RAt,
+// itself checked against the KF of the whitened model in package filters.
+func EqualsKFVaryingR(t testing.TB, newFilter func(m *filters.Model) filters.Filter, tol float64) {
+	t.Helper()
+	equalsKF(t, CV2DVaryingR(0.5, 4), newFilter, tol)
+}
+
+func equalsKF(t testing.TB, m *filters.Model, newFilter func(m *filters.Model) filters.Filter, tol float64) {
+	t.Helper()
 	x0, p0 := CV2DPrior()
 	rng := rand.New(rand.NewPCG(20240611, 1))
 	xt := make([]float64, m.Nx)

@@ -97,6 +97,52 @@ func TestSimulateNoiseCovariance(t *testing.T) {
 	}
 }
 
+// With Model.RAt, Simulate draws the measurement noise of step k from
+// N(0, R_k): whitened by the Cholesky factor of R_k (R_k = L Lᵀ, L⁻¹v ~
+// N(0, I); the standard whitening transformation, common practice), the
+// noise of CV2DVaryingR has identity covariance, within 5 standard errors
+// as in TestSimulateNoiseCovariance (√(2/N) on the diagonal, √(1/N) off
+// it). Unwhitened it does not: its variances range from 0.8 to 10.
+func TestSimulateVaryingR(t *testing.T) {
+	m := *filtertest.CV2DVaryingR(0.5, 4)
+	m.F = func(dst, _ []float64, _ int) { clear(dst) }
+	m.H = func(dst, _ []float64, _ int) { dst[0], dst[1] = 0, 0 }
+	const n = 20000
+	_, z := filtertest.Simulate(&m, make([]float64, 4), n, rand.New(rand.NewPCG(8, 10)))
+	var s [4]float64
+	var raw float64
+	for k := 1; k <= n; k++ {
+		r := filtertest.RAtOrR(&m, k)
+		l00 := math.Sqrt(r[0])
+		l10 := r[2] / l00
+		l11 := math.Sqrt(r[3] - l10*l10)
+		v := z[k-1]
+		w0 := v[0] / l00
+		w1 := (v[1] - l10*w0) / l11
+		s[0] += w0 * w0
+		s[1] += w0 * w1
+		s[3] += w1 * w1
+		raw += v[0] * v[0]
+	}
+	for i, want := range []float64{1, 0, 0, 1} {
+		if i == 2 {
+			continue
+		}
+		se := math.Sqrt((1 + want) / n)
+		if got := s[i] / n; math.Abs(got-want) > 5*se {
+			t.Errorf("whitened noise covariance [%d] = %v, want %v (se %.3g)", i, got, want, se)
+		}
+	}
+	// Unwhitened, the first component's variance is a = 4·(0.2 + 0.3·(k
+	// mod 5)) at the steps with RAt, mean 3.2, and 4 at the others (k mod 6
+	// = 0; independent of k mod 5 over a period of 30): 3.2·5/6 + 4/6 =
+	// 10/3, not R's 4. Within 0.2, about 6 standard errors of the mean of
+	// v² (whose standard deviation is about √2·3.4).
+	if got := raw / n; math.Abs(got-10.0/3) > 0.2 {
+		t.Errorf("raw variance of the first component %v, want about 10/3", got)
+	}
+}
+
 // The conformance checks pass for the reference filter itself.
 func TestChecksOnKF(t *testing.T) {
 	m := filtertest.CV2D(0.5, 4)
@@ -114,4 +160,11 @@ func TestChecksOnKF(t *testing.T) {
 		}
 		return g
 	}, 0) // the same filter on the same data: bit-identical
+	filtertest.EqualsKFVaryingR(t, func(m *filters.Model) filters.Filter {
+		g, err := filters.NewKF(m, filters.KFConfig{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		return g
+	}, 0)
 }
