@@ -197,7 +197,7 @@ func (g *gaussSim) run(p *Problem, seq *Sequence, rng *rand.Rand) {
 		addGaussian(x, x, g.lq, g.w[:nx], rng)
 		z := seq.Z[(k-1)*nz : k*nz]
 		m.H(z, x, k)
-		addGaussian(z, z, g.lr, g.w[:nz], rng)
+		addGaussian(z, z, p.measFactor(g.lr, k), g.w[:nz], rng)
 		for _, i := range m.AngleMeas {
 			z[i] = wrapPi(z[i])
 		}

@@ -118,6 +118,9 @@ type Problem struct {
 
 	// SimulateAdditive's simulator, made on first use
 	sim *gaussSim
+	// the measurement noise covariance of a step from Model.RAt and its
+	// lower factor (simulation only; sized on first use)
+	simR, simLR []float64
 }
 
 // Run fills seq with one run of the problem drawn from rng.
@@ -132,8 +135,10 @@ func (p *Problem) Run(seq *Sequence, rng *rand.Rand) {
 // SimulateAdditive simulates the additive-Gaussian model exactly as written:
 // x0 ~ N(X0, P0), x_k = F(x_{k-1}, k) + w_k, z_k = H(x_k, k) + v_k, with
 // the Model.AngleMeas components of z_k then wrapped to (-π, π] as a sensor
-// reports them. The Cholesky factors of Q, R and P0 are computed on the
-// first call and kept: change Model.Q, Model.R or P0 only before it.
+// reports them; v_k ~ N(0, R_k) with the covariance Model.RAt gives for
+// step k when the model has one (factored at that step). The Cholesky
+// factors of Q, R and P0 are computed on the first call and kept: change
+// Model.Q, Model.R or P0 only before it.
 // A Problem is not safe for concurrent use by SimulateAdditive; the runner
 // gives each worker its own Problem.
 func (p *Problem) SimulateAdditive(seq *Sequence, rng *rand.Rand) {
@@ -142,6 +147,25 @@ func (p *Problem) SimulateAdditive(seq *Sequence, rng *rand.Rand) {
 	}
 	p.sim.x0 = p.X0 // the prior mean as it is now
 	p.sim.run(p, seq, rng)
+}
+
+// measFactor returns the lower factor of the measurement noise covariance
+// of step k for a simulator whose factor of Model.R is lr: lr itself
+// unless Model.RAt gives a covariance for the step, which is then factored
+// into the problem's workspace (allocated on first use).
+func (p *Problem) measFactor(lr []float64, k int) []float64 {
+	m := &p.Model
+	if m.RAt == nil {
+		return lr
+	}
+	if len(p.simR) != len(m.R) {
+		p.simR, p.simLR = make([]float64, len(m.R)), make([]float64, len(m.R))
+	}
+	if !m.RAt(p.simR, k) {
+		return lr
+	}
+	cholOrZeroTo(p.simLR, p.simR, m.Nz)
+	return p.simLR
 }
 
 // addGaussian sets dst = mean + L n with n standard normal; dst may alias mean.
@@ -167,6 +191,13 @@ func addGaussian(dst, mean, l, w []float64, rng *rand.Rand) {
 // tiny pivot to divide by.
 func cholOrZero(a []float64, n int) []float64 {
 	l := make([]float64, n*n)
+	cholOrZeroTo(l, a, n)
+	return l
+}
+
+// cholOrZeroTo is cholOrZero into l (n*n), without allocating.
+func cholOrZeroTo(l, a []float64, n int) {
+	clear(l[:n*n])
 	for j := 0; j < n; j++ {
 		s := a[j*n+j]
 		for k := 0; k < j; k++ {
@@ -185,7 +216,6 @@ func cholOrZero(a []float64, n int) []float64 {
 			l[i*n+j] = t / d
 		}
 	}
-	return l
 }
 
 // wrapPi maps an angle in radians to (-π, π].
