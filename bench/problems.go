@@ -265,7 +265,7 @@ func builtinProblems() []ProblemSpec {
 		},
 		{
 			Name:    "track",
-			Summary: "a real track's recorded fixes as position measurements, no ground truth: scored by pred_rmse and ANIS only",
+			Summary: "a real track's recorded fixes as position measurements (each with its stated accuracy where the receiver gives one), no ground truth: scored by pred_rmse and ANIS only",
 			Source: "real AIS/GPX/NMEA track (dataset named in the file's SOURCE.md; default: MarineCadastre AIS, US Coast Guard / BOEM / NOAA); " +
 				"two-point initialisation and CWNA model: Bar-Shalom, Li & Kirubarajan 2001, §5.5.3, §6.2.2",
 			Params: []Param{
@@ -275,7 +275,9 @@ func builtinProblems() []ProblemSpec {
 					Doc: "format of the file; auto follows the extension (.csv, .gpx, .log/.nmea/.txt)"},
 				{Name: "track", Kind: String, Default: Value{Str: ""}, Doc: "track ID (MMSI, GPX track name, NMEA talker) or #n; empty = the longest path"},
 				{Name: "min_points", Kind: Int, Default: Value{Num: 15}, Doc: "fewest fixes of a track to be used", Min: 3, Max: 1e9},
-				{Name: "sigma", Kind: Float, Default: Value{Num: 10}, Doc: "fix noise standard deviation per axis in m", Min: 1e-6, Max: 1e6},
+				{Name: "sigma", Kind: Float, Default: Value{Num: 10}, Doc: "fix noise standard deviation per axis in m (with noise = stated, of the fixes that state none)", Min: 1e-6, Max: 1e6},
+				{Name: "noise", Kind: String, Default: Value{Str: "stated"}, Choices: []string{"stated", "fixed"},
+					Doc: "stated: each fix's own accuracy where its receiver states one (NMEA GST), sigma elsewhere; fixed: sigma for every fix"},
 				{Name: "dt", Kind: Float, Default: Value{Num: 10}, Doc: "step in s; a step without a fix within dt/2 has no measurement", Min: 1e-3, Max: 1e6},
 				{Name: "motion", Kind: String, Default: Value{Str: "cv"}, Choices: []string{"cv", "ct"}, Doc: "filters' motion model: constant velocity or coordinated turn"},
 				{Name: "q", Kind: Float, Default: Value{Num: 0.1}, Doc: "acceleration noise intensity of the model in m²/s³", Min: 1e-12, Max: 1e12},
@@ -283,7 +285,7 @@ func builtinProblems() []ProblemSpec {
 			},
 			Build: func(v Values) (*datasets.Problem, error) {
 				return datasets.NewTrack(datasets.TrackConfig{Steps: v.Int("steps"), File: v.Str("file"), Format: v.Str("format"),
-					Track: v.Str("track"), MinPoints: v.Int("min_points"), Sigma: v.Float("sigma"), Dt: v.Float("dt"),
+					Track: v.Str("track"), MinPoints: v.Int("min_points"), Sigma: v.Float("sigma"), Noise: v.Str("noise"), Dt: v.Float("dt"),
 					Motion: v.Str("motion"), Q: v.Float("q"), Q2: v.Float("q2")})
 			},
 		},

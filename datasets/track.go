@@ -20,8 +20,15 @@ type TrackConfig struct {
 	Track     string
 	MinPoints int
 	// Sigma is the standard deviation in m of each horizontal axis of a
-	// fix, the filters' measurement noise; if zero, 10.
+	// fix, the filters' measurement noise (of the fixes that state none,
+	// with Noise "stated"); if zero, 10.
 	Sigma float64
+	// Noise says where a fix's noise standard deviation comes from:
+	// "stated" takes the accuracy the receiver states for the fix
+	// (navlog.Point.HorizStd, from NMEA GST) where it is positive and
+	// finite, and Sigma where the fix has none; "fixed" takes Sigma for
+	// every fix. If empty, "stated".
+	Noise string
 	// Dt is the step in s; if zero, 10.
 	Dt float64
 	// Steps, if positive, keeps only the first Steps steps; if zero, every
@@ -51,6 +58,9 @@ func (c TrackConfig) withDefaults() (TrackConfig, error) {
 	if c.Motion == "" {
 		c.Motion = "cv"
 	}
+	if c.Noise == "" {
+		c.Noise = "stated"
+	}
 	if c.Q == 0 {
 		c.Q = 0.1
 	}
@@ -62,6 +72,8 @@ func (c TrackConfig) withDefaults() (TrackConfig, error) {
 		return c, fmt.Errorf("datasets: track: MinPoints must be at least 3, got %d", c.MinPoints)
 	case !positive(c.Sigma):
 		return c, fmt.Errorf("datasets: track: Sigma must be a positive finite standard deviation, got %v", c.Sigma)
+	case c.Noise != "stated" && c.Noise != "fixed":
+		return c, fmt.Errorf("datasets: track: Noise must be stated or fixed, got %q", c.Noise)
 	}
 	return c, checkTrackMotion("track", c.Dt, c.Steps, c.Motion, c.Q, c.Q2)
 }
@@ -91,19 +103,27 @@ func (c TrackConfig) withDefaults() (TrackConfig, error) {
 // Prior. Two-point differencing of the first two fixes, per axis (Bar-
 // Shalom, Li & Kirubarajan 2001, "Estimation with Applications to Tracking
 // and Navigation", §5.5.3): position z_1, velocity (z_1 − z_0)/T with T
-// their time apart, covariance [[σ², σ²/T], [σ²/T, 2σ²/T²]]; ct adds ω =
-// 0 with variance 1e-4 rad²/s² (our choice). Neither fix is measured again.
+// their time apart, covariance [[σ₁², σ₁²/T], [σ₁²/T, (σ₀² + σ₁²)/T²]]
+// with σ₀, σ₁ the noise of the two fixes as below (2σ²/T² when they are
+// equal); ct adds ω = 0 with variance 1e-4 rad²/s² (our choice). Neither
+// fix is measured again.
 //
 // Models. cv: x_k = A x_{k-1} + w with the continuous white-noise
 // acceleration Q = q [[T³/3, T²/2], [T²/2, T]] per axis (Bar-Shalom et al.
 // 2001, §6.2.2); ct: the coordinated turn of ctrb, Q = blockdiag(q M, q
-// M, q2 T). The measurement is z = [px, py] + v, v ~ N(0, σ² I), linear.
-// Per-fix accuracies (a receiver's GST, HDOP) are not used: σ is one
-// configured value.
+// M, q2 T). The measurement is z = [px, py] + v, v ~ N(0, σ_k² I),
+// linear, with σ_k the noise of the fix of step k: with Noise "stated"
+// the accuracy its receiver states (navlog.Point.HorizStd, the root mean
+// square of the NMEA GST latitude and longitude error standard
+// deviations), given to the filters through Model.RAt, and Sigma for a
+// fix without one (Model.R = Sigma² I); with Noise "fixed", Sigma for
+// every fix. AIS and GPX fixes state no accuracy, so for them the two
+// are the same (and the model has no RAt). HDOP is not used: turning it
+// into metres needs a range error the log does not give.
 //
 // Defaults (our choices): the AIS sample ReplayDefaultFile, its longest
-// track with at least 15 fixes, σ = 10 m, Dt = 10 s, cv with q = 0.1
-// m²/s³ (ct: q2 = 1e-5 rad²/s³).
+// track with at least 15 fixes, Noise "stated", σ = 10 m, Dt = 10 s, cv
+// with q = 0.1 m²/s³ (ct: q2 = 1e-5 rad²/s³).
 //
 // Traits: cv is linear (ct differentiable with analytic Jacobians),
 // additive Gaussian noise, as the filters' model; the recorded motion and
@@ -126,12 +146,17 @@ func NewTrack(cfg TrackConfig) (*Problem, error) {
 	if err != nil {
 		return nil, err
 	}
-	var ts, es, ns []float64
-	for _, p := range lp {
+	r := c.Sigma * c.Sigma
+	var ts, es, ns, vs []float64 // vs: a fix's noise variance per axis, NaN for r
+	for i, p := range lp {
 		if math.IsNaN(p.T) || (len(ts) > 0 && !(p.T > ts[len(ts)-1])) {
 			continue
 		}
-		ts, es, ns = append(ts, p.T), append(es, p.E), append(ns, p.N)
+		v := math.NaN()
+		if h := tr.Points[i].HorizStd; c.Noise == "stated" && positive(h) && positive(h*h) {
+			v = h * h
+		}
+		ts, es, ns, vs = append(ts, p.T), append(es, p.E), append(ns, p.N), append(vs, v)
 	}
 	if len(ts) < 3 {
 		return nil, fmt.Errorf("datasets: track: %s track %s has %d fixes at distinct times, fewer than 3 (does the file give times?)", tr.Source, tr.ID, len(ts))
@@ -150,6 +175,7 @@ func NewTrack(cfg TrackConfig) (*Problem, error) {
 	z := make([]float64, steps*nz)
 	has := make([]bool, steps)
 	gap := make([]float64, steps) // |t − t_k| of the fix kept at step k
+	rv := make([]float64, steps)  // its stated noise variance, NaN for r
 	for i := 2; i <= last; i++ {
 		k := stepOf(ts[i], t0, dt)
 		if k < 1 || k > steps {
@@ -161,6 +187,11 @@ func NewTrack(cfg TrackConfig) (*Problem, error) {
 		}
 		has[k-1], gap[k-1] = true, d
 		z[(k-1)*nz], z[(k-1)*nz+1] = es[i], ns[i]
+		rv[k-1] = vs[i]
+	}
+	stated := false
+	for k := range rv {
+		stated = stated || (has[k] && !math.IsNaN(rv[k]))
 	}
 
 	ct := c.Motion == "ct"
@@ -168,13 +199,19 @@ func NewTrack(cfg TrackConfig) (*Problem, error) {
 	if ct {
 		nx = 5
 	}
-	r := c.Sigma * c.Sigma
 	T1 := ts[1] - ts[0]
 	x0 := []float64{es[1], (es[1] - es[0]) / T1, ns[1], (ns[1] - ns[0]) / T1, 0}[:nx]
 	p0 := make([]float64, nx*nx)
+	r0, r1 := r, r
+	if !math.IsNaN(vs[0]) {
+		r0 = vs[0]
+	}
+	if !math.IsNaN(vs[1]) {
+		r1 = vs[1]
+	}
 	for _, o := range []int{0, 2} {
-		p0[o*nx+o], p0[o*nx+o+1] = r, r/T1
-		p0[(o+1)*nx+o], p0[(o+1)*nx+o+1] = r/T1, 2*r/(T1*T1)
+		p0[o*nx+o], p0[o*nx+o+1] = r1, r1/T1
+		p0[(o+1)*nx+o], p0[(o+1)*nx+o+1] = r1/T1, (r0+r1)/(T1*T1)
 	}
 	t, q := dt, c.Q
 	m11, m12, m22 := q*t*t*t/3, q*t*t/2, q*t
@@ -194,6 +231,16 @@ func NewTrack(cfg TrackConfig) (*Problem, error) {
 		}
 	}
 	m.R = []float64{r, 0, 0, r}
+	if stated {
+		m.RAt = func(dst []float64, k int) bool {
+			if k < 1 || k > steps || math.IsNaN(rv[k-1]) {
+				return false
+			}
+			v := rv[k-1]
+			dst[0], dst[1], dst[2], dst[3] = v, 0, 0, v
+			return true
+		}
+	}
 	m.Linear = !ct
 
 	sim := func(_ *Problem, seq *Sequence, _ *rand.Rand) {
