@@ -33,3 +33,4 @@ fuzz:
 	$(GO) test -run '^$$' -fuzz '^FuzzSmartphone$$' -fuzztime 10s -fuzzminimizetime 0 ./datasets/recorded/
 	$(GO) test -run '^$$' -fuzz '^FuzzMapping$$' -fuzztime 10s -fuzzminimizetime 0 ./datasets/recorded/
 	$(GO) test -run '^$$' -fuzz '^FuzzDecode$$' -fuzztime 10s -fuzzminimizetime 0 ./datasets/recorded/
+	$(GO) test -run '^$$' -fuzz '^FuzzParseFloat$$' -fuzztime 10s -fuzzminimizetime 0 ./datasets/recorded/

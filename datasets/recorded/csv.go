@@ -7,6 +7,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"slices"
 	"strconv"
 	"strings"
@@ -103,20 +104,40 @@ type csvReader struct {
 	name   string
 	fm     *fileMapping
 	lr     *lineReader
-	e      *errs
 	nfield int   // fields of the header
 	tcol   int   // index of the time field
 	src    []int // index of the field of each output column
 	hdr    []string
 	fields [][]byte  // fields of the current line, reused
 	vals   []float64 // values of the current line, reused
+	// slot is, for each field of the header, the output column its value
+	// goes to, slotTime or slotNone; fast says fastRow may read the lines.
+	slot []int
+	fast bool
 }
+
+const (
+	slotTime = -1 // the time field
+	slotNone = -2 // a field no output reads
+)
 
 // readCSV reads one file; size, if known, pre-sizes the columns. Row
 // errors go to e; the error returned is an I/O error or a header that
-// lacks a mapped column.
+// lacks a mapped column. A file of 4 blocks or more is read in blocks
+// by as many goroutines as GOMAXPROCS allows (at most maxWorkers); the
+// result is the same, error for error, as reading it line by line.
 func readCSV(name string, r io.Reader, size int64, fm *fileMapping, e *errs) (*stream, error) {
-	c := &csvReader{name: name, fm: fm, lr: newLineReader(r), e: e}
+	workers := 1
+	if size >= 4*blockSize {
+		workers = min(runtime.GOMAXPROCS(0), maxWorkers)
+	}
+	return readCSVWith(name, r, size, fm, e, blockSize, workers)
+}
+
+// readCSVWith is readCSV with the block size and the number of workers;
+// one worker reads the file line by line on the calling goroutine.
+func readCSVWith(name string, r io.Reader, size int64, fm *fileMapping, e *errs, block, workers int) (*stream, error) {
+	c := &csvReader{name: name, fm: fm, lr: newLineReader(r)}
 	if err := c.header(); err != nil {
 		return nil, err
 	}
@@ -126,6 +147,9 @@ func readCSV(name string, r io.Reader, size int64, fm *fileMapping, e *errs) (*s
 	}
 	s := newStream(fm.sensor, name, cols)
 	c.vals = make([]float64, len(fm.outs))
+	if workers > 1 {
+		return c.readBlocks(s, size, e, block, workers)
+	}
 	sized := false
 	for !e.full() {
 		line, err := c.lr.next()
@@ -139,10 +163,12 @@ func readCSV(name string, r io.Reader, size int64, fm *fileMapping, e *errs) (*s
 		if err != nil {
 			return nil, fmt.Errorf("recorded: %s: %w", name, err)
 		}
-		if t, ok := c.row(line); ok {
+		if t, ok, field, msg := c.row(line); ok {
 			s.add(t, c.lr.line, c.vals)
+		} else if msg != "" {
+			e.add(name, c.lr.line, field, msg)
 		}
-		if !sized && len(s.t) == 64 && size > 0 {
+		if !sized && len(s.t) == 64 && size > c.lr.read {
 			// Estimate the rows from the bytes per row so far, 5 % over.
 			per := float64(c.lr.read) / float64(c.lr.line)
 			s.grow(int(float64(size-c.lr.read)/per*1.05) + 64)
@@ -204,6 +230,18 @@ func (c *csvReader) header() error {
 	if len(missing) > 0 {
 		return missing
 	}
+	// fastRow needs each field read at most once and a delimiter that
+	// cannot be part of a number.
+	c.slot = make([]int, c.nfield)
+	for i := range c.slot {
+		c.slot[i] = slotNone
+	}
+	c.slot[c.tcol] = slotTime
+	c.fast = !strings.ContainsRune("0123456789+-.eE", rune(c.fm.delim))
+	for i, si := range c.src {
+		c.fast = c.fast && c.slot[si] == slotNone
+		c.slot[si] = i
+	}
 	return nil
 }
 
@@ -212,40 +250,93 @@ func (c *csvReader) noColumn(name string) *LoadError {
 		Msg: "no such column in the header" + suggest(name, c.hdr) + " (columns: " + strings.Join(c.hdr, ", ") + ")"}
 }
 
-// row parses one data line into the time and c.vals. It reports false for
-// lines to skip: empty lines, comments and bad rows (recorded in c.e).
-func (c *csvReader) row(line []byte) (int64, bool) {
+// row parses one data line into the time and c.vals and reports whether
+// it is a row. A bad row also returns the field (empty for the whole
+// line) and the message of its error; empty lines and comments return
+// neither.
+func (c *csvReader) row(line []byte) (t int64, ok bool, field, msg string) {
 	if len(line) == 0 || line[0] == '#' {
-		return 0, false
+		return 0, false, "", ""
+	}
+	if c.fast {
+		if t, ok := c.fastRow(line); ok {
+			return t, true, "", ""
+		}
 	}
 	c.fields = splitFields(c.fields[:0], line, c.fm.delim)
 	if len(c.fields) != c.nfield {
 		if len(c.fields) == 1 && len(bytes.TrimSpace(line)) == 0 {
-			return 0, false
+			return 0, false, "", ""
 		}
-		c.e.add(c.name, c.lr.line, "", strconv.Itoa(len(c.fields))+" fields; the header has "+strconv.Itoa(c.nfield))
-		return 0, false
+		return 0, false, "", strconv.Itoa(len(c.fields)) + " fields; the header has " + strconv.Itoa(c.nfield)
 	}
 	tf := c.fields[c.tcol]
 	if len(tf) == 0 {
-		c.e.add(c.name, c.lr.line, c.hdr[c.tcol], "no time")
-		return 0, false
+		return 0, false, c.hdr[c.tcol], "no time"
 	}
 	t, err := parseTime(tf, c.fm.perUnit)
 	if err != nil {
-		c.e.add(c.name, c.lr.line, c.hdr[c.tcol], err.Error())
-		return 0, false
+		return 0, false, c.hdr[c.tcol], err.Error()
 	}
 	for i, si := range c.src {
 		v, err := parseValue(c.fields[si])
 		if err != nil {
-			c.e.add(c.name, c.lr.line, c.hdr[si], err.Error())
-			return 0, false
+			return 0, false, c.hdr[si], err.Error()
 		}
 		if s := c.fm.outs[i].scale; s != 1 {
 			v *= s
 		}
 		c.vals[i] = v
+	}
+	return t, true, "", ""
+}
+
+// fastRow reads a line whose fields are plain: the right number of them,
+// each a number or empty with nothing around it, and a good time. It reads
+// the line in one pass, each number straight from the line, and reports
+// false for any other line, which row then reads field by field; a line
+// gives the same values either way (parseValue uses the same parseFloat),
+// and its errors come from row alone.
+func (c *csvReader) fastRow(line []byte) (int64, bool) {
+	var t int64
+	last := len(c.slot) - 1
+	delim := c.fm.delim
+	rest := line
+	for k, slot := range c.slot {
+		if slot >= 0 {
+			v := math.NaN() // an empty field
+			if len(rest) > 0 && rest[0] != delim {
+				var n int
+				var ok bool
+				if v, n, ok = parseFloatPrefix(rest); !ok {
+					return 0, false
+				}
+				rest = rest[n:]
+			}
+			if s := c.fm.outs[slot].scale; s != 1 {
+				v *= s
+			}
+			c.vals[slot] = v
+		} else {
+			n := bytes.IndexByte(rest, delim)
+			if n < 0 {
+				n = len(rest)
+			}
+			if slot == slotTime {
+				var err error
+				if t, err = parseTime(rest[:n], c.fm.perUnit); err != nil || n == 0 {
+					return 0, false
+				}
+			}
+			rest = rest[n:]
+		}
+		if k == last {
+			return t, len(rest) == 0
+		}
+		if len(rest) == 0 || rest[0] != delim {
+			return 0, false
+		}
+		rest = rest[1:]
 	}
 	return t, true
 }

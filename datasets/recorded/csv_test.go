@@ -3,8 +3,10 @@ package recorded
 import (
 	"errors"
 	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -425,4 +427,83 @@ func equalBits(a, b []float64) bool {
 		}
 	}
 	return true
+}
+
+// TestFastRowMatchesRow reads random lines, plain and not, with the
+// one-pass fastRow allowed and with the field-by-field reading alone, and
+// checks that both give the same time, values (bit for bit) and errors.
+// The reference is the field-by-field reading, which the other tests here
+// check against the files' expected contents.
+func TestFastRowMatchesRow(t *testing.T) {
+	values := []string{"1.5", "-0.0042603487041181585", "9.860071125378163", "6.866455E-4", "-57.580566", "",
+		"0", "-0", "+.5", "5.", "1e-400", "NaN", "nan", " 1.5", "1.5 ", "\t3", `"2.5"`, "x", "1e", "1e+", "1.5x",
+		"1e999", "inf", "12345678901234567890123", "0x10", "1_0", "9007199254740993", "1.2.3", "--1"}
+	times := []string{"0.0025", "12", "", "1.4036E+018", "abc", " 1", `"2"`, "-3.5", "1e", "1e2", "99999999999999999999"}
+	for _, delim := range []string{",", "\t", ";", " "} {
+		m := mustMapping(t, `dataset = "d"
+[[file]]
+path = "a.csv"
+delimiter = "`+strings.ReplaceAll(delim, "\t", "\\t")+`"
+time = "t"
+time_unit = "ms"
+  [[file.quantity]]
+  kind = "gyro"
+  columns = ["gx", "gy", "gz"]
+  unit = "deg/s"
+  frame = "body"
+`)
+		d := delim
+		fm := &m.files[0]
+		c := &csvReader{name: "a.csv", fm: fm, lr: newLineReader(strings.NewReader(strings.Join([]string{"a", "t", "gx", "note", "gz", "gy"}, d) + "\n"))}
+		if err := c.header(); err != nil {
+			t.Fatal(err)
+		}
+		if !c.fast {
+			t.Fatalf("delimiter %q: fastRow not used", delim)
+		}
+		c.vals = make([]float64, len(fm.outs))
+		rng := rand.New(rand.NewPCG(9, uint64(d[0])))
+		plain, fast := 0, 0
+		for range 50000 {
+			n := 6
+			if rng.IntN(10) == 0 {
+				n += rng.IntN(3) - 1
+			}
+			good := rng.IntN(2) == 0 // plain fields only
+			pick := func(from []string, plain int) string {
+				if good {
+					return from[rng.IntN(plain)]
+				}
+				return from[rng.IntN(len(from))]
+			}
+			fields := make([]string, n)
+			for i := range fields {
+				if i == 1 {
+					fields[i] = pick(times, 2)
+				} else {
+					fields[i] = pick(values, 6)
+				}
+			}
+			line := []byte(strings.Join(fields, d))
+			c.fast = true
+			t1, ok1, f1, m1 := c.row(line)
+			v1 := slices.Clone(c.vals)
+			c.fast = false
+			t2, ok2, f2, m2 := c.row(line)
+			v2 := c.vals
+			if ok1 != ok2 || ok1 && (t1 != t2 || !equalBits(v1, v2)) || f1 != f2 || m1 != m2 {
+				t.Fatalf("delimiter %q, line %q: fastRow allowed: %v %v %v %q %q; row alone: %v %v %v %q %q", delim, line, t1, ok1, v1, f1, m1, t2, ok2, v2, f2, m2)
+			}
+			if good && n == 6 {
+				plain++
+				if _, ok := c.fastRow(line); ok {
+					fast++
+				}
+			}
+		}
+		// Plain lines are what fastRow is for.
+		if fast != plain {
+			t.Errorf("delimiter %q: fastRow read %d of %d plain lines", delim, fast, plain)
+		}
+	}
 }

@@ -2,7 +2,6 @@ package recorded
 
 import (
 	"bufio"
-	"bytes"
 	"errors"
 	"io"
 	"math"
@@ -54,8 +53,18 @@ func (l *lineReader) next() ([]byte, error) {
 	if len(b) > maxLine {
 		return nil, errLongLine
 	}
-	b = bytes.TrimSuffix(b, []byte{'\n'})
-	return bytes.TrimSuffix(b, []byte{'\r'}), nil
+	return trimEnding(b), nil
+}
+
+// trimEnding removes a line's LF or CRLF ending, if it has one.
+func trimEnding(b []byte) []byte {
+	if n := len(b); n > 0 && b[n-1] == '\n' {
+		b = b[:n-1]
+	}
+	if n := len(b); n > 0 && b[n-1] == '\r' {
+		b = b[:n-1]
+	}
+	return b
 }
 
 // trimField removes spaces and tabs around a field and one pair of double
@@ -79,11 +88,12 @@ func parseValue(b []byte) (float64, error) {
 	if len(b) == 0 {
 		return math.NaN(), nil
 	}
-	if v, ok := parseSimple(b); ok {
+	if v, ok := parseFloat(b); ok {
 		return v, nil
 	}
-	// The conversion does not allocate for short fields: ParseFloat does
-	// not keep its argument (the benchmarks report the allocations).
+	// Other forms, and the cases the fast paths leave in doubt. The
+	// conversion does not allocate for short fields: ParseFloat does not
+	// keep its argument (the benchmarks report the allocations).
 	v, err := strconv.ParseFloat(string(b), 64)
 	if err != nil {
 		if ne, ok := err.(*strconv.NumError); ok && ne.Err == strconv.ErrRange {
@@ -95,54 +105,6 @@ func parseValue(b []byte) (float64, error) {
 		return 0, errors.New("not finite: " + quoteShort(b))
 	}
 	return v, nil
-}
-
-// exactPow10 are the powers of ten that float64 holds exactly.
-var exactPow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10, 1e11,
-	1e12, 1e13, 1e14, 1e15, 1e16, 1e17, 1e18, 1e19, 1e20, 1e21, 1e22}
-
-// parseSimple parses a plain decimal ([-+]digits[.digits], no exponent)
-// whose digits, without the point, form an integer m below 2^53, and whose
-// fraction has at most 22 digits: then m and 10^k are exact float64
-// values and m/10^k, one IEEE division, is the correctly rounded result
-// (Clinger 1990, "How to read floating point numbers accurately", PLDI;
-// the fast path strconv.ParseFloat also takes). It reports false for
-// anything else, which the caller hands to strconv.ParseFloat.
-func parseSimple(b []byte) (float64, bool) {
-	i, neg := 0, false
-	if b[0] == '-' || b[0] == '+' {
-		neg = b[0] == '-'
-		i = 1
-	}
-	var m uint64
-	digits, frac, dot := 0, 0, false
-	for ; i < len(b); i++ {
-		c := b[i]
-		if c >= '0' && c <= '9' {
-			m = m*10 + uint64(c-'0')
-			digits++
-			if dot {
-				frac++
-			}
-			if digits > 16 {
-				return 0, false
-			}
-			continue
-		}
-		if c == '.' && !dot {
-			dot = true
-			continue
-		}
-		return 0, false
-	}
-	if digits == 0 || frac >= len(exactPow10) || m >= 1<<53 {
-		return 0, false
-	}
-	v := float64(m) / exactPow10[frac]
-	if neg {
-		v = -v
-	}
-	return v, true
 }
 
 // quoteShort quotes b, cut to 40 bytes.
