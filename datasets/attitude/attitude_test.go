@@ -248,7 +248,6 @@ func runFilter(t *testing.T, p *datasets.Problem, f filters.Filter, seq *dataset
 	return math.Sqrt(se/float64(n)) * 180 / math.Pi, ne / float64(n)
 }
 
-
 // On the BROAD sample the multiplicative EKF and the quaternion UKF track
 // the mocap orientation. With the magnetometer every axis is observed and
 // the error stays within a few degrees through the 16 s of fast motion;
