@@ -193,10 +193,14 @@ func builtinFilters() []FilterSpec {
 				{Name: "inflation", Kind: Float, Default: Value{Num: 1}, Min: 1, Max: 10,
 					Doc: "factor on the forecast deviations from the ensemble mean (1 = off)"},
 			},
-			// Traits do not say which noise is not additive: for a
-			// non-additive problem NewEnKF refuses a model with HV (the
-			// runner notes "cannot be set up: ...") and runs one with FW.
-			Applies: func(datasets.Traits) (bool, string) { return true, "" },
+			// Non-additive process noise (FW) is sampled; non-additive
+			// measurement noise (HV) is not applicable.
+			Applies: func(t datasets.Traits) (bool, string) {
+				if t.NonAdditiveMeas {
+					return false, "needs additive measurement noise; {problem} " + phrase(t.NonAdditive, "has non-additive measurement noise")
+				}
+				return true, ""
+			},
 			New: func(m *filters.Model, v Values) (filters.Filter, error) {
 				return filters.NewEnKF(m, filters.EnKFConfig{Members: v.Int("members"), Inflation: v.Float("inflation")})
 			},
@@ -253,8 +257,8 @@ const particleTraits = "any model it can simulate; non-additive measurement nois
 // particleApplies accepts every problem: pf, apf and rpf run on additive
 // and non-additive noise. A model whose measurement noise is not additive
 // (HV) and that has no MeasLogLik is refused by the filter's constructor
-// instead (Traits do not say which noise is not additive, nor whether the
-// likelihood is known), which the runner notes as "cannot be set up".
+// instead (Traits do not say whether the likelihood is known), which the
+// runner notes as "cannot be set up".
 func particleApplies(datasets.Traits) (bool, string) { return true, "" }
 
 func particlesParam() Param {

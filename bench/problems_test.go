@@ -442,3 +442,43 @@ use = "pf"
 		t.Errorf("rmse ekf %v ukf %v deg, diverged %d %d", e, u, ekf.Summary.Diverged, ukf.Summary.Diverged)
 	}
 }
+
+// Every built-in problem declares NonAdditiveMeas exactly when its model's
+// measurement noise is not additive (HV set), and enkf, which needs
+// additive measurement noise, is then not applicable with the reason.
+func TestNonAdditiveMeasDeclared(t *testing.T) {
+	for _, spec := range Builtin().Problems {
+		if spec.Name == "radar-replay" || spec.Name == "track" || spec.Name == "attitude" {
+			if !replaySamplePresent(t) {
+				continue
+			}
+		}
+		p, err := spec.Build(Defaults(spec.Params))
+		if err != nil {
+			t.Fatalf("%s: %v", spec.Name, err)
+		}
+		if (p.Model.HV != nil) != p.Traits.NonAdditiveMeas {
+			t.Errorf("%s: model has HV %v, Traits.NonAdditiveMeas %v", spec.Name, p.Model.HV != nil, p.Traits.NonAdditiveMeas)
+		}
+	}
+	s, err := ParseSuite("enkf.toml", []byte(`
+name = "enkf-meas"
+seed = 1
+runs = 2
+[[problem]]
+use = "stochvol"
+steps = 5
+[[filter]]
+use = "enkf"
+`), Builtin())
+	if err != nil {
+		t.Fatal(err)
+	}
+	out, err := Run(s, Options{Workers: 1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if p := out.Pairs[0]; p.Applicable || p.Note != "enkf needs additive measurement noise; stochvol(steps=5) has multiplicative measurement noise (y = exp(x/2) ε)" {
+		t.Errorf("enkf on stochvol: applicable %v, note %q", p.Applicable, p.Note)
+	}
+}

@@ -61,7 +61,11 @@ type Traits struct {
 	Differentiable    bool // transition and measurement are differentiable everywhere
 	AnalyticJacobians bool // the model provides FJac and HJac
 	AdditiveNoise     bool // noise enters additively
-	GaussianNoise     bool // process and measurement noise are Gaussian
+	// NonAdditiveMeas says that the measurement noise is the part that is
+	// not additive (the model has HV); AdditiveNoise is then false too.
+	// Filters that need only additive measurement noise (enkf) read it.
+	NonAdditiveMeas bool
+	GaussianNoise   bool // process and measurement noise are Gaussian
 
 	// Phrases saying why a trait above does not hold, each completing a
 	// sentence that starts with the problem's name ("friction is

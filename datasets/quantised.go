@@ -120,6 +120,7 @@ func NewQuantised(cfg QuantisedConfig) (*Problem, error) {
 		Traits: Traits{
 			NonDifferentiable: "has a staircase measurement (quantised to " + strconv.FormatFloat(d, 'g', -1, 64) + " m)",
 			NonAdditive:       "quantises the noisy reading (noise before the quantiser)",
+			NonAdditiveMeas:   true,
 			NonGaussian:       "has quantised measurements",
 		},
 		Simulate: func(p *Problem, seq *Sequence, rng *rand.Rand) {

@@ -147,6 +147,7 @@ func NewStochVol(cfg StochVolConfig) (*Problem, error) {
 			return -halfLog2Pi - x[0]/2 - z[0]*z[0]*math.Exp(-x[0])/2
 		}
 		tr.NonAdditive = "has multiplicative measurement noise (y = exp(x/2) ε)"
+		tr.NonAdditiveMeas = true
 		tr.NonGaussian = "has a non-Gaussian measurement density"
 	}
 	sx := se / math.Sqrt(1-phi*phi) // stationary standard deviation of x
