@@ -305,11 +305,14 @@ func builtinProblems() []ProblemSpec {
 				{Name: "mag_noise", Kind: Float, Default: Value{Num: 10}, Doc: "magnetometer standard deviation per axis in µT", Min: 1e-9, Max: 1e4},
 				{Name: "prior_deg", Kind: Float, Default: Value{Num: 5}, Doc: "standard deviation of the prior attitude error per axis in degrees (each run draws one)", Min: 1e-6, Max: 90},
 				{Name: "prior_bias", Kind: Float, Default: Value{Num: 0.01}, Doc: "prior standard deviation of each gyro bias component in rad/s", Min: 1e-9, Max: 10},
+				{Name: "chart", Kind: String, Default: Value{Str: attitude.ChartRotVec}, Choices: []string{attitude.ChartRotVec, attitude.ChartGRP},
+					Doc: "coordinates of the attitude error: rotation vector, or the generalized Rodrigues parameters (a=1, f=4) of Crassidis & Markley 2003"},
 			},
 			Build: func(v Values) (*datasets.Problem, error) {
 				return attitude.New(attitude.Config{Steps: v.Int("steps"), File: v.Str("file"), Mapping: v.Str("mapping"),
 					Magnetometer: v.Str("magnetometer") == "on", GyroNoise: v.Float("gyro_noise"), BiasNoise: v.Float("bias_noise"),
-					AccNoise: v.Float("acc_noise"), MagNoise: v.Float("mag_noise"), PriorDeg: v.Float("prior_deg"), PriorBias: v.Float("prior_bias")})
+					AccNoise: v.Float("acc_noise"), MagNoise: v.Float("mag_noise"), PriorDeg: v.Float("prior_deg"), PriorBias: v.Float("prior_bias"),
+					Chart: v.Str("chart")})
 			},
 		},
 	}

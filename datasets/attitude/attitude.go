@@ -71,7 +71,16 @@ type Config struct {
 	// PriorBias is the prior standard deviation of each gyro bias
 	// component in rad/s (prior mean 0). Default 0.01.
 	PriorBias float64
+	// Chart is the attitude error's coordinates: ChartRotVec (the
+	// default, also for "") or ChartGRP. See Manifold.
+	Chart string
 }
+
+// The charts of the attitude error (Config.Chart).
+const (
+	ChartRotVec = "rotvec" // rotation vector: q ⊞ δθ = q ⊗ exp(δθ)
+	ChartGRP    = "grp"    // generalized Rodrigues parameters, a = 1, f = 4
+)
 
 func (c Config) withDefaults() (Config, error) {
 	def := func(v *float64, d float64) {
@@ -97,6 +106,12 @@ func (c Config) withDefaults() (Config, error) {
 	}
 	if c.Steps < 0 {
 		return c, fmt.Errorf("datasets: attitude: Steps must not be negative, got %d", c.Steps)
+	}
+	if c.Chart == "" {
+		c.Chart = ChartRotVec
+	}
+	if c.Chart != ChartRotVec && c.Chart != ChartGRP {
+		return c, fmt.Errorf("datasets: attitude: Chart must be %s or %s, got %q", ChartRotVec, ChartGRP, c.Chart)
 	}
 	return c, nil
 }
@@ -406,7 +421,7 @@ func build(d *data, c Config) (*datasets.Problem, error) {
 		},
 		Q:        make([]float64, 36),
 		R:        make([]float64, nz*nz),
-		Manifold: Manifold(),
+		Manifold: Manifold(c.Chart),
 	}
 	for i := 0; i < 3; i++ {
 		m.Q[i*6+i] = (c.GyroNoise * d.dt) * (c.GyroNoise * d.dt)
@@ -474,22 +489,58 @@ func simulate(d *data, nz int, sp float64, p *datasets.Problem, seq *datasets.Se
 	seq.Prior[4], seq.Prior[5], seq.Prior[6] = 0, 0, 0
 }
 
-// Manifold is the state space of the problem: a unit quaternion with the
-// local (body-frame) rotation-vector chart, q ⊞ δθ = q ⊗ exp(δθ), and a
-// gyro bias in R³.
-func Manifold() *filters.Manifold {
+// Manifold is the state space of the problem: a unit quaternion with a
+// local (body-frame) chart of its error, q ⊞ δ = q ⊗ δq(δ), and a gyro bias
+// in R³. The chart is ChartRotVec, δq = exp(δθ), or ChartGRP, the
+// generalized Rodrigues parameters of the unscented quaternion estimator
+// (Crassidis & Markley 2003, "Unscented filtering for spacecraft attitude
+// estimation", J. Guidance, Control, and Dynamics 26(4), eqs. 32–35, with
+// their a = 1, f = 2(a+1) = 4): δp = f·δϱ/(a + δq₀), δϱ the vector part.
+// Both agree with the rotation vector to first order, so the model's
+// Jacobians serve either; they differ from the third order on
+// (4·tan(θ/4) = θ + θ³/48 + …).
+func Manifold(chart string) *filters.Manifold {
+	toQuat, fromQuat := expq, logq
+	if chart == ChartGRP {
+		toQuat, fromQuat = grpQuat, quatGRP
+	}
 	return &filters.Manifold{
 		Dim: 6,
 		Plus: func(dst, x, d []float64) {
-			putQuat(dst, quatOf(x).Mul(expq([3]float64{d[0], d[1], d[2]})).Normalize())
+			putQuat(dst, quatOf(x).Mul(toQuat([3]float64{d[0], d[1], d[2]})).Normalize())
 			dst[4], dst[5], dst[6] = x[4]+d[3], x[5]+d[4], x[6]+d[5]
 		},
 		Minus: func(dst, y, x []float64) {
-			v := logq(quatOf(x).Conj().Mul(quatOf(y)))
+			v := fromQuat(quatOf(x).Conj().Mul(quatOf(y)))
 			dst[0], dst[1], dst[2] = v[0], v[1], v[2]
 			dst[3], dst[4], dst[5] = y[4]-x[4], y[5]-x[5], y[6]-x[6]
 		},
 	}
+}
+
+// The GRP constants of Crassidis & Markley 2003 (their choice a = 1,
+// f = 2(a+1)).
+const grpA, grpF = 1.0, 4.0
+
+// grpQuat is the unit quaternion of the GRP vector p (Crassidis & Markley
+// 2003, eqs. 34–35): q₀ = (−a|p|² + f·sqrt(f² + (1−a²)|p|²)) / (f² + |p|²),
+// ϱ = (a + q₀)·p / f.
+func grpQuat(p [3]float64) geo.Quat {
+	n2 := p[0]*p[0] + p[1]*p[1] + p[2]*p[2]
+	q0 := (-grpA*n2 + grpF*math.Sqrt(grpF*grpF+(1-grpA*grpA)*n2)) / (grpF*grpF + n2)
+	s := (grpA + q0) / grpF
+	return geo.Quat{W: q0, X: s * p[0], Y: s * p[1], Z: s * p[2]}
+}
+
+// quatGRP is the GRP vector of a unit quaternion, p = f·ϱ/(a + q₀)
+// (Crassidis & Markley 2003, eq. 32), of q or −q, whichever has q₀ >= 0
+// (the same rotation; the smaller parameters).
+func quatGRP(q geo.Quat) [3]float64 {
+	if q.W < 0 {
+		q = geo.Quat{W: -q.W, X: -q.X, Y: -q.Y, Z: -q.Z}
+	}
+	s := grpF / (grpA + q.W)
+	return [3]float64{s * q.X, s * q.Y, s * q.Z}
 }
 
 func quatOf(x []float64) geo.Quat { return geo.Quat{W: x[0], X: x[1], Y: x[2], Z: x[3]} }

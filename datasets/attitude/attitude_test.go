@@ -124,7 +124,30 @@ func TestConventionOnBROAD(t *testing.T) {
 // eq. 143).
 func TestManifoldAndJacobian(t *testing.T) {
 	rng := rand.New(rand.NewPCG(3, 4))
-	mf := Manifold()
+	for _, chart := range []string{ChartRotVec, ChartGRP} {
+		checkManifold(t, Manifold(chart), rng)
+	}
+	for i := 0; i < 200; i++ {
+		phi := [3]float64{rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64()}
+		del := [3]float64{1e-4 * rng.NormFloat64(), 1e-4 * rng.NormFloat64(), 1e-4 * rng.NormFloat64()}
+		jr := rightJacobian(phi)
+		var jd [3]float64
+		for r := 0; r < 3; r++ {
+			jd[r] = jr[r*3]*del[0] + jr[r*3+1]*del[1] + jr[r*3+2]*del[2]
+		}
+		lhs := expq([3]float64{phi[0] + del[0], phi[1] + del[1], phi[2] + del[2]})
+		rhs := expq(phi).Mul(expq(jd))
+		if a := angleDeg(lhs, rhs) * math.Pi / 180; a > 1e-7 { // second order in |δ| = 1e-4
+			t.Fatalf("J_r: exp(φ+δ) and exp(φ)exp(J_r δ) differ by %.3g rad", a)
+		}
+	}
+}
+
+// checkManifold checks x ⊞ (y ⊟ x) = y and x ⊟ x = 0 on random states,
+// and that the chart agrees with the rotation vector to first order: for a
+// small δ, x ⊞ δ is within |δ|³ of x ⊗ exp(δ).
+func checkManifold(t *testing.T, mf *filters.Manifold, rng *rand.Rand) {
+	t.Helper()
 	for i := 0; i < 200; i++ {
 		x, y := make([]float64, 7), make([]float64, 7)
 		putQuat(x, geo.QuatFromAxisAngle(geo.Vec3{rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64()}, 3*rng.Float64()))
@@ -144,17 +167,12 @@ func TestManifoldAndJacobian(t *testing.T) {
 				t.Fatalf("x ⊟ x = %v", z)
 			}
 		}
-		phi := [3]float64{rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64()}
-		del := [3]float64{1e-4 * rng.NormFloat64(), 1e-4 * rng.NormFloat64(), 1e-4 * rng.NormFloat64()}
-		jr := rightJacobian(phi)
-		var jd [3]float64
-		for r := 0; r < 3; r++ {
-			jd[r] = jr[r*3]*del[0] + jr[r*3+1]*del[1] + jr[r*3+2]*del[2]
-		}
-		lhs := expq([3]float64{phi[0] + del[0], phi[1] + del[1], phi[2] + del[2]})
-		rhs := expq(phi).Mul(expq(jd))
-		if a := angleDeg(lhs, rhs) * math.Pi / 180; a > 1e-7 { // second order in |δ| = 1e-4
-			t.Fatalf("J_r: exp(φ+δ) and exp(φ)exp(J_r δ) differ by %.3g rad", a)
+		small := []float64{1e-3 * rng.NormFloat64(), 1e-3 * rng.NormFloat64(), 1e-3 * rng.NormFloat64(), 0, 0, 0}
+		mf.Plus(back, x, small)
+		want := quatOf(x).Mul(expq([3]float64{small[0], small[1], small[2]}))
+		n := math.Sqrt(small[0]*small[0] + small[1]*small[1] + small[2]*small[2])
+		if a := angleDeg(quatOf(back), want) * math.Pi / 180; a > n*n*n+1e-15 {
+			t.Fatalf("x ⊞ δ is %.3g rad from x ⊗ exp(δ) for |δ| = %.3g", a, n)
 		}
 	}
 }
@@ -396,5 +414,46 @@ func BenchmarkStep(b *testing.B) {
 				}
 			}
 		})
+	}
+}
+
+// With a = 1 and f = 4 the GRP of a rotation by θ about e is 4·tan(θ/4)·e
+// (four times the modified Rodrigues parameters; Crassidis & Markley 2003,
+// §III, and Shuster 1993, "A survey of attitude representations",
+// J. Astronautical Sciences 41(4), §7.6, for the MRP tan(θ/4)); and the
+// UKF on the BROAD sample gives nearly the same error with either chart.
+func TestGRPChart(t *testing.T) {
+	e := geo.Vec3{2.0 / 7, 3.0 / 7, 6.0 / 7} // unit
+	for _, th := range []float64{1e-6, 0.1, 1, 2, 3} {
+		p := quatGRP(geo.QuatFromAxisAngle(e, th))
+		for i := range p {
+			if want := 4 * math.Tan(th/4) * e[i]; math.Abs(p[i]-want) > 1e-14*(1+math.Abs(want)) {
+				t.Errorf("θ %v: GRP %v, want 4 tan(θ/4) e = %v", th, p, want)
+			}
+		}
+		if a := angleDeg(grpQuat(p), geo.QuatFromAxisAngle(e, th)); a > 1e-9 {
+			t.Errorf("θ %v: GRP back to quaternion off by %.3g°", th, a)
+		}
+	}
+	var rmse [2]float64
+	for i, chart := range []string{ChartRotVec, ChartGRP} {
+		p, err := New(Config{File: broadDir(t), Chart: chart})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var seq datasets.Sequence
+		p.Run(&seq, rand.New(rand.NewPCG(1, 2)))
+		ukf, err := filters.NewUKF(&p.Model, filters.DefaultUKF())
+		if err != nil {
+			t.Fatal(err)
+		}
+		rmse[i], _ = runFilter(t, p, ukf, &seq)
+	}
+	t.Logf("ukf: %.4f° (rotation vector), %.4f° (GRP)", rmse[0], rmse[1])
+	if math.Abs(rmse[0]-rmse[1]) > 0.1 {
+		t.Errorf("ukf: %.4f° with the rotation vector, %.4f° with GRP", rmse[0], rmse[1])
+	}
+	if _, err := New(Config{Chart: "euler"}); err == nil || !strings.Contains(err.Error(), "Chart must be") {
+		t.Errorf("chart euler: %v", err)
 	}
 }
