@@ -63,6 +63,9 @@ type Accumulator struct {
 	// one entry per non-diverged run, in run order
 	runMSE []float64 // mean over steps of SqErr
 	runNs  []float64 // NsPerStep
+	// one entry per non-diverged run that scores at least one step, in
+	// run order: the mean of NEES over its scored steps (its ANEES)
+	runANEES []float64
 }
 
 // NewAccumulator returns an empty accumulator for runs of the given number
@@ -95,6 +98,7 @@ func (a *Accumulator) Grow(runs int) {
 	}
 	a.runMSE = grow(a.runMSE, runs)
 	a.runNs = grow(a.runNs, runs)
+	a.runANEES = grow(a.runANEES, runs)
 }
 
 func grow(s []float64, n int) []float64 {
@@ -146,7 +150,7 @@ func (a *Accumulator) Add(t *RunTrace) {
 		return
 	}
 
-	var se float64
+	var se, ne float64
 	n := 0
 	for k, v := range t.SqErr {
 		if math.IsNaN(v) {
@@ -156,6 +160,7 @@ func (a *Accumulator) Add(t *RunTrace) {
 		a.nees[k] += t.NEES[k]
 		a.scoredN[k]++
 		se += v
+		ne += t.NEES[k]
 		n++
 	}
 	if a.nz > 0 {
@@ -179,6 +184,9 @@ func (a *Accumulator) Add(t *RunTrace) {
 
 	a.runMSE = append(a.runMSE, se/float64(n)) // NaN when no step is scored
 	a.runNs = append(a.runNs, t.NsPerStep)
+	if n > 0 {
+		a.runANEES = append(a.runANEES, ne/float64(n))
+	}
 }
 
 func (a *Accumulator) check(field string, n int, nilOK bool) {
@@ -199,7 +207,7 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 	s := Summary{
 		Runs: a.runs, Diverged: a.diverged,
 		RMSE: nan, RMSELo: nan, RMSEHi: nan, PredRMSE: nan,
-		ANEES: nan, ANEESLo: nan, ANEESHi: nan, NEESInBounds: nan,
+		ANEES: nan, ANEESLo: nan, ANEESHi: nan, ANEESRunMedian: nan, NEESInBounds: nan,
 		ANIS: nan, ANISLo: nan, ANISHi: nan, NISInBounds: nan,
 		NsPerStep: nan, MeanESS: nan,
 	}
@@ -274,6 +282,7 @@ func (a *Accumulator) Summary(bootSeed uint64) Summary {
 			m = float64(K) // one run's worth of independent values
 		}
 		s.ANEESLo, s.ANEESHi = ChiSquareBounds(m*float64(a.nx), m, level)
+		s.ANEESRunMedian = Median(a.runANEES) // not empty: N > 0
 		var bc boundsCache
 		in := 0
 		for k, v := range a.nees {

@@ -10,8 +10,8 @@
 // An Accumulator takes one RunTrace per run (Add) and keeps none of its
 // slices: per step it holds the sums over runs of the squared error, NEES
 // and NIS and the count of runs with a measurement (O(steps)); per usable
-// run it holds two float64 (the run's mean squared error, for the
-// bootstrap, and its ns per step, for the median). Memory is therefore
+// run it holds three float64 (the run's mean squared error, for the
+// bootstrap, its ns per step and its ANEES, for their medians). Memory is therefore
 // O(steps + runs), never O(steps × runs). Grow pre-sizes the per-run part so
 // that Add allocates nothing. Summary and Curves read the sums without
 // changing them.
@@ -51,6 +51,32 @@
 // (Bar-Shalom et al. 2001, §5.4). A consistent estimator has both near 0.95.
 // ANEES is not divided by nx: a consistent estimator has ANEES near nx.
 //
+// ANEESRunMedian is the median over the non-diverged runs of each run's
+// own ANEES,
+//
+//	ANEES_r = Σ_k ε_r(k) / K_r           (K_r: the steps run r scores)
+//	ANEESRunMedian = Median_r ANEES_r    (over the runs with K_r > 0)
+//
+// ANEES weighs every (run, step) pair alike, so a few runs whose NEES
+// explodes (a particle cloud collapsed far from the truth) can make it
+// arbitrarily large; the median reads what a typical run does. For a
+// consistent estimator, with the steps treated as independent as above
+// and K scored steps per run, K·ANEES_r is χ²_(K·nx) (Bar-Shalom et al.
+// 2001, §5.4.2), whose median lies slightly below its mean K·nx, so
+// ANEESRunMedian is near nx too but slightly below it: it estimates
+//
+//	χ²_(K·nx)(0.5) / K ≈ nx·(1 − 2/(9·K·nx))³ ≈ nx − 2/(3K)
+//
+// (the median of χ²_ν by the Wilson–Hilferty approximation, Wilson &
+// Hilferty 1931, "The distribution of chi-square", PNAS 17(12), 684–688;
+// close for ν ≥ 10, 9.3480 for the exact 9.3418 at ν = 10, and 1.3% high
+// at ν = 2, 1.4047, where χ²_2 is exponential with the exact median
+// 2·ln 2 = 1.3863). With 100 steps that is 0.9933 for nx = 1 and 4.9933 for nx = 5: for long
+// runs the median reads on the same scale as ANEES and nx. It has no
+// bounds or mark of its own; read it against nx. A median near nx under an
+// ANEES far above its bounds says the ANEES comes from a few runs; a
+// median far above nx says the filter is overconfident in most runs.
+//
 // The one-step-ahead prediction error needs no truth. With ν_r(k) here
 // the innovation z_r(k) − ẑ_r(k|k−1) (PredSqErr holds ‖ν_r(k)‖², angle
 // components wrapped) and P the (run, step) pairs with an innovation,
@@ -62,7 +88,7 @@
 // mixes units when the measurement does (range and bearing).
 //
 // With NoTruth (recorded data: no truth, the same data in every run) RMSE,
-// ANEES, their intervals and bounds and NEESInBounds are NaN, Summary
+// ANEES, their intervals and bounds, ANEESRunMedian and NEESInBounds are NaN, Summary
 // warns NoTruthWarning, and ANISLo/Hi use m = the number of steps with a
 // measurement (one run's values; the runs are not independent samples of
 // the data), the per-step NIS bounds m = 1.

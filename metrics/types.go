@@ -39,7 +39,11 @@ type Summary struct {
 	PredRMSE float64
 
 	ANEES, ANEESLo, ANEESHi float64 // average NEES and its two-sided 95% chi-square bounds
-	NEESInBounds            float64 // fraction of steps whose run-averaged NEES is inside its own 95% bounds
+	// ANEESRunMedian is the median over the runs that score a step of
+	// each run's ANEES (its NEES averaged over its scored steps): unlike
+	// ANEES it is not dominated by a few runs whose NEES explodes.
+	ANEESRunMedian float64
+	NEESInBounds   float64 // fraction of steps whose run-averaged NEES is inside its own 95% bounds
 
 	ANIS, ANISLo, ANISHi float64 // the same for NIS
 	NISInBounds          float64

@@ -34,7 +34,7 @@ var olderColumns = []struct {
 			"rmse", "anees", "anis", "ns_per_step", "mean_ess"},
 		curves: []string{"problem", "filter", "config", "step",
 			"rmse", "anees", "anees_bound_lo", "anees_bound_hi", "anis", "runs"},
-		summaryGone: []string{"pred_rmse", "evals_per_step", "mean_ess", "repairs"},
+		summaryGone: []string{"anees_run_median", "pred_rmse", "evals_per_step", "mean_ess", "repairs"},
 		runsGone:    []string{"pred_rmse", "repairs"},
 		curvesGone:  []string{"pred_rmse"},
 	},
@@ -49,7 +49,7 @@ var olderColumns = []struct {
 			"rmse", "anees", "anis", "ns_per_step", "mean_ess", "repairs"},
 		curves: []string{"problem", "filter", "config", "step",
 			"rmse", "anees", "anees_bound_lo", "anees_bound_hi", "anis", "runs"},
-		summaryGone: []string{"pred_rmse", "evals_per_step"},
+		summaryGone: []string{"anees_run_median", "pred_rmse", "evals_per_step"},
 		runsGone:    []string{"pred_rmse"},
 		curvesGone:  []string{"pred_rmse"},
 	},
@@ -64,9 +64,22 @@ var olderColumns = []struct {
 			"rmse", "anees", "anis", "ns_per_step", "mean_ess", "repairs"},
 		curves: []string{"problem", "filter", "config", "step",
 			"rmse", "anees", "anees_bound_lo", "anees_bound_hi", "anis", "runs"},
-		summaryGone: []string{"pred_rmse"},
+		summaryGone: []string{"anees_run_median", "pred_rmse"},
 		runsGone:    []string{"pred_rmse"},
 		curvesGone:  []string{"pred_rmse"},
+	},
+	{
+		version: "with pred_rmse (ebe2dde)",
+		summary: []string{"problem", "filter", "config", "runs", "diverged",
+			"rmse", "rmse_ci_lo", "rmse_ci_hi", "pred_rmse",
+			"anees", "anees_bound_lo", "anees_bound_hi", "nees_in_bounds",
+			"anis", "anis_bound_lo", "anis_bound_hi",
+			"ns_per_step", "allocs_per_step", "evals_per_step", "mean_ess", "repairs", "note"},
+		runs: []string{"problem", "filter", "config", "run", "diverged", "div_step", "reason",
+			"rmse", "pred_rmse", "anees", "anis", "ns_per_step", "mean_ess", "repairs"},
+		curves: []string{"problem", "filter", "config", "step",
+			"rmse", "pred_rmse", "anees", "anees_bound_lo", "anees_bound_hi", "anis", "runs"},
+		summaryGone: []string{"anees_run_median"},
 	},
 }
 
@@ -277,7 +290,9 @@ func TestReadOlderRunsAndCurves(t *testing.T) {
 			t.Fatalf("%s: %v", v.version, err)
 		}
 		for i, w := range curves {
-			w.PredRMSE = nan // every earlier version lacks it
+			if slices.Contains(v.curvesGone, "pred_rmse") {
+				w.PredRMSE = nan
+			}
 			g := gc[i]
 			if g.Problem != w.Problem || g.Step != w.Step || g.Runs != w.Runs || !sameFloat(g.RMSE, w.RMSE) ||
 				!sameFloat(g.PredRMSE, w.PredRMSE) || !sameFloat(g.ANEES, w.ANEES) || !sameFloat(g.ANEESHi, w.ANEESHi) {

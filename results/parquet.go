@@ -46,10 +46,11 @@ type colSpec struct {
 // that added them (git log -p results/rows.go): mean_ess and repairs to
 // the summary and repairs to the runs with the count of covariance
 // repairs; evals_per_step to the summary with estbench compare and budget;
-// pred_rmse to all three with the one-step-ahead prediction error. Files
-// of earlier versions lack them, and the readers accept that.
+// pred_rmse to all three with the one-step-ahead prediction error;
+// anees_run_median to the summary with the median over runs of each run's
+// ANEES. Files of earlier versions lack them, and the readers accept that.
 var (
-	summaryLater = []string{"mean_ess", "repairs", "evals_per_step", "pred_rmse"}
+	summaryLater = []string{"mean_ess", "repairs", "evals_per_step", "pred_rmse", "anees_run_median"}
 	runLater     = []string{"repairs", "pred_rmse"}
 	curveLater   = []string{"pred_rmse"}
 )
@@ -602,8 +603,8 @@ func laterNames(specs []colSpec) string {
 // # Files of other versions
 //
 // Columns are found by name, in any order. A file of an earlier estbench
-// may lack the columns added since (pred_rmse, evals_per_step, mean_ess,
-// repairs): their metrics read as NaN, not measured, and Repairs, a
+// may lack the columns added since (anees_run_median, pred_rmse,
+// evals_per_step, mean_ess, repairs): their metrics read as NaN, not measured, and Repairs, a
 // count, as 0, which there means not counted rather than none needed.
 // Columns the reader does not know (a file of a later version) are
 // ignored. Any other column missing, or of another type, is an error

@@ -120,6 +120,7 @@ func runRow(rng *rand.Rand, r int) RunRow {
 		RunStat: metrics.RunStat{
 			Run: r, RMSE: rng.Float64() * 10, ANEES: rng.ExpFloat64(), ANIS: rng.ExpFloat64(),
 			NsPerStep: 100 + rng.Float64()*1e4, MeanESS: math.NaN(),
+			PredRMSE: 1 + float64(r%9)/8, Repairs: r % 4,
 		},
 	}
 	if r%2 == 1 {
@@ -131,7 +132,7 @@ func runRow(rng *rand.Rand, r int) RunRow {
 	}
 	if r%7 == 0 {
 		row.Diverged, row.DivStep, row.Reason = true, 1+r%50, "covariance not positive definite"
-		row.RMSE, row.ANEES, row.ANIS, row.MeanESS = math.NaN(), math.NaN(), math.NaN(), math.NaN()
+		row.RMSE, row.PredRMSE, row.ANEES, row.ANIS, row.MeanESS = math.NaN(), math.NaN(), math.NaN(), math.NaN(), math.NaN()
 	}
 	return row
 }
@@ -453,7 +454,7 @@ func TestParquetIndependentReader(t *testing.T) {
 			t.Fatal(err)
 		}
 		rt.Rows = append(rt.Rows, []any{x.Problem, x.Filter, x.Config, x.Run, x.Diverged, x.DivStep, x.Reason,
-			num(x.RMSE), num(x.ANEES), num(x.ANIS), num(x.NsPerStep), num(x.MeanESS)})
+			num(x.RMSE), num(x.PredRMSE), num(x.ANEES), num(x.ANIS), num(x.NsPerStep), num(x.MeanESS), x.Repairs})
 	}
 	if err := rw.Close(); err != nil {
 		t.Fatal(err)
@@ -467,12 +468,12 @@ func TestParquetIndependentReader(t *testing.T) {
 	ct := table{Columns: CurveColumns}
 	for k := 1; k <= 50; k++ {
 		c := CurveRow{Problem: "cv2d", Filter: "ukf", Config: "alpha=1", CurvePoint: metrics.CurvePoint{
-			Step: k, RMSE: 1 / float64(k), ANEES: 4 + 1/float64(k), ANEESLo: 3.5, ANEESHi: 4.6, ANIS: math.NaN(), Runs: 100}}
+			Step: k, RMSE: 1 / float64(k), PredRMSE: 2 / float64(k), ANEES: 4 + 1/float64(k), ANEESLo: 3.5, ANEESHi: 4.6, ANIS: math.NaN(), Runs: 100}}
 		if err := cw.Write(c); err != nil {
 			t.Fatal(err)
 		}
 		ct.Rows = append(ct.Rows, []any{c.Problem, c.Filter, c.Config, c.Step,
-			num(c.RMSE), num(c.ANEES), num(c.ANEESLo), num(c.ANEESHi), num(c.ANIS), c.Runs})
+			num(c.RMSE), num(c.PredRMSE), num(c.ANEES), num(c.ANEESLo), num(c.ANEESHi), num(c.ANIS), c.Runs})
 	}
 	if err := cw.Close(); err != nil {
 		t.Fatal(err)

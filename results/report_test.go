@@ -28,20 +28,20 @@ import (
 // that contributed (Bar-Shalom, Li & Kirubarajan 2001, §5.4.2, through
 // metrics.ChiSquareBounds). The tests here check layout, not numbers.
 func reportFixture() *ReportData {
-	s := func(runs, div int, rmse, lo, hi, anees, alo, ahi, in, anis, nlo, nhi, ns float64) metrics.Summary {
+	s := func(runs, div int, rmse, lo, hi, anees, alo, ahi, med, in, anis, nlo, nhi, ns float64) metrics.Summary {
 		return metrics.Summary{Runs: runs, Diverged: div, RMSE: rmse, RMSELo: lo, RMSEHi: hi,
-			ANEES: anees, ANEESLo: alo, ANEESHi: ahi, NEESInBounds: in,
+			ANEES: anees, ANEESLo: alo, ANEESHi: ahi, ANEESRunMedian: med, NEESInBounds: in,
 			ANIS: anis, ANISLo: nlo, ANISHi: nhi, NISInBounds: nan, NsPerStep: ns, MeanESS: nan, PredRMSE: nan}
 	}
 	rows := []SummaryRow{
-		{Problem: "cv2d", Filter: "kf", Applicable: true, Summary: s(50, 0, 8.71, 8.49, 8.95, 4.012, 3.890, 4.112, 0.95, 2.004, 1.945, 2.056, 1480)},
-		{Problem: "cv2d", Filter: "ukf", Applicable: true, Summary: s(50, 0, 8.71, 8.49, 8.95, 4.012, 3.890, 4.112, 0.95, 2.004, 1.945, 2.056, 2610)},
-		{Problem: "cv2d", Filter: "pf", Config: "particles=500", Applicable: true, Summary: s(50, 0, 8.93, 8.70, 9.18, 5.31, 3.890, 4.112, 0.61, 2.07, 1.945, 2.056, 251000)},
+		{Problem: "cv2d", Filter: "kf", Applicable: true, Summary: s(50, 0, 8.71, 8.49, 8.95, 4.012, 3.890, 4.112, 3.978, 0.95, 2.004, 1.945, 2.056, 1480)},
+		{Problem: "cv2d", Filter: "ukf", Applicable: true, Summary: s(50, 0, 8.71, 8.49, 8.95, 4.012, 3.890, 4.112, 3.978, 0.95, 2.004, 1.945, 2.056, 2610)},
+		{Problem: "cv2d", Filter: "pf", Config: "particles=500", Applicable: true, Summary: s(50, 0, 8.93, 8.70, 9.18, 5.31, 3.890, 4.112, 4.64, 0.61, 2.07, 1.945, 2.056, 251000)},
 		{Problem: "ungm", Filter: "kf", Note: "kf needs a linear model; ungm is nonlinear"},
-		{Problem: "ungm", Filter: "ukf", Applicable: true, Summary: s(50, 0, 7.82, 7.61, 8.05, 1.52, 0.945, 1.057, 0.11, 0.51, 0.945, 1.057, 690)},
-		{Problem: "ungm", Filter: "pf", Config: "particles=500", Applicable: true, Summary: s(50, 0, 4.75, 4.55, 4.96, 3.1e9, 0.945, 1.057, 0.55, 1.09, 0.945, 1.057, 17300)},
-		{Problem: "ctrb(steps=60)", Filter: "ukf", Applicable: true, Summary: s(50, 0, 19.1, 17.8, 20.6, 5.13, 4.862, 5.140, 0.86, 1.98, 1.945, 2.056, 4510)},
-		{Problem: "ctrb(steps=60)", Filter: "pf", Config: "particles=500", Applicable: true, Summary: s(50, 2, 80.4, 19.7, 140.2, 2.4e7, 4.855, 5.147, 0.02, 11.9, 1.94, 2.06, 690000)},
+		{Problem: "ungm", Filter: "ukf", Applicable: true, Summary: s(50, 0, 7.82, 7.61, 8.05, 1.52, 0.945, 1.057, 1.31, 0.11, 0.51, 0.945, 1.057, 690)},
+		{Problem: "ungm", Filter: "pf", Config: "particles=500", Applicable: true, Summary: s(50, 0, 4.75, 4.55, 4.96, 3.1e9, 0.945, 1.057, 1.12, 0.55, 1.09, 0.945, 1.057, 17300)},
+		{Problem: "ctrb(steps=60)", Filter: "ukf", Applicable: true, Summary: s(50, 0, 19.1, 17.8, 20.6, 5.13, 4.862, 5.140, 4.99, 0.86, 1.98, 1.945, 2.056, 4510)},
+		{Problem: "ctrb(steps=60)", Filter: "pf", Config: "particles=500", Applicable: true, Summary: s(50, 2, 80.4, 19.7, 140.2, 2.4e7, 4.855, 5.147, 37.6, 0.02, 11.9, 1.94, 2.06, 690000)},
 	}
 	rows[7].Warnings = []string{"2 of 50 runs diverged (first: run 9, step 41: covariance not positive definite)"}
 

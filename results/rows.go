@@ -13,7 +13,7 @@ import (
 var SummaryColumns = []string{
 	"problem", "filter", "config", "runs", "diverged",
 	"rmse", "rmse_ci_lo", "rmse_ci_hi", "pred_rmse",
-	"anees", "anees_bound_lo", "anees_bound_hi", "nees_in_bounds",
+	"anees", "anees_bound_lo", "anees_bound_hi", "anees_run_median", "nees_in_bounds",
 	"anis", "anis_bound_lo", "anis_bound_hi",
 	"ns_per_step", "allocs_per_step", "evals_per_step", "mean_ess", "repairs", "note",
 }
@@ -109,14 +109,14 @@ func summaryValues(r *SummaryRow) [summaryFloats]float64 {
 	s := &r.Summary
 	return [summaryFloats]float64{
 		s.RMSE, s.RMSELo, s.RMSEHi, s.PredRMSE,
-		s.ANEES, s.ANEESLo, s.ANEESHi, s.NEESInBounds,
+		s.ANEES, s.ANEESLo, s.ANEESHi, s.ANEESRunMedian, s.NEESInBounds,
 		s.ANIS, s.ANISLo, s.ANISHi,
 		s.NsPerStep, r.AllocsPerStep, r.EvalsPerStep, s.MeanESS, float64(s.Repairs),
 	}
 }
 
 // summaryFloats is the number of float64 columns of the summary.
-const summaryFloats = 16
+const summaryFloats = 17
 
 // summaryCounts returns the runs and diverged columns; 0 when the row does
 // not apply.
@@ -131,11 +131,11 @@ func summaryCounts(r *SummaryRow) (runs, diverged int) {
 func setSummaryValues(r *SummaryRow, v *[summaryFloats]float64) {
 	s := &r.Summary
 	s.RMSE, s.RMSELo, s.RMSEHi, s.PredRMSE = v[0], v[1], v[2], v[3]
-	s.ANEES, s.ANEESLo, s.ANEESHi, s.NEESInBounds = v[4], v[5], v[6], v[7]
-	s.ANIS, s.ANISLo, s.ANISHi = v[8], v[9], v[10]
-	s.NsPerStep, r.AllocsPerStep, r.EvalsPerStep = v[11], v[12], v[13]
-	s.MeanESS = v[14]
-	if !math.IsNaN(v[15]) {
-		s.Repairs = int(v[15])
+	s.ANEES, s.ANEESLo, s.ANEESHi, s.ANEESRunMedian, s.NEESInBounds = v[4], v[5], v[6], v[7], v[8]
+	s.ANIS, s.ANISLo, s.ANISHi = v[9], v[10], v[11]
+	s.NsPerStep, r.AllocsPerStep, r.EvalsPerStep = v[12], v[13], v[14]
+	s.MeanESS = v[15]
+	if !math.IsNaN(v[16]) {
+		s.Repairs = int(v[16])
 	}
 }

@@ -110,7 +110,7 @@ func TestEscaping(t *testing.T) {
 func TestConsistencyColumnOutlier(t *testing.T) {
 	rows := []SummaryRow{
 		{Problem: "ungm", Filter: "ukf", Applicable: true, Summary: metrics.Summary{Runs: 30, ANEES: 1.951, ANEESLo: 0.950, ANEESHi: 1.051, ANIS: math.NaN(), ANISLo: math.NaN(), ANISHi: math.NaN(), RMSE: 7.8, RMSELo: 7.5, RMSEHi: 8.1, NsPerStep: 600}},
-		{Problem: "ungm", Filter: "pf", Applicable: true, Summary: metrics.Summary{Runs: 30, ANEES: 6.63e13, ANEESLo: 0.950, ANEESHi: 1.051, ANIS: math.NaN(), ANISLo: math.NaN(), ANISHi: math.NaN(), RMSE: 4.7, RMSELo: 4.3, RMSEHi: 5.2, NsPerStep: 16000}},
+		{Problem: "ungm", Filter: "pf", Applicable: true, Summary: metrics.Summary{Runs: 30, ANEES: 6.63e13, ANEESLo: 0.950, ANEESHi: 1.051, ANEESRunMedian: 1.02, ANIS: math.NaN(), ANISLo: math.NaN(), ANISHi: math.NaN(), RMSE: 4.7, RMSELo: 4.3, RMSEHi: 5.2, NsPerStep: 16000}},
 	}
 	h := buildHuman(rows, Provenance{})
 	if got := h.cells[0][hANEES]; got != "1.951 [0.950, 1.051] high" {
@@ -118,5 +118,10 @@ func TestConsistencyColumnOutlier(t *testing.T) {
 	}
 	if got := h.cells[1][hANEES]; got != "6.63e+13 [0.950, 1.051] high" {
 		t.Errorf("pf cell %q", got)
+	}
+	// The median run ANEES, which the collapsed runs do not move, keeps the
+	// scale of the bounds.
+	if got := h.cells[1][hANEESMed]; got != "1.020" {
+		t.Errorf("pf median run ANEES cell %q", got)
 	}
 }

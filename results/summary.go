@@ -93,6 +93,7 @@ const (
 	hRMSE
 	hPred
 	hANEES
+	hANEESMed
 	hNEESIn
 	hANIS
 	hTime
@@ -119,7 +120,8 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 		}
 		// The consistency columns take their scale from the bounds, which
 		// sit near the dimension; an ANEES far outside them (a collapsed
-		// particle cloud) is shown on its own in e-notation by format.
+		// particle cloud) is shown on its own in e-notation by format. The
+		// median run ANEES shares the ANEES scale.
 		anees = append(anees, r.ANEESLo, r.ANEESHi)
 		anis = append(anis, r.ANISLo, r.ANISHi)
 		ns = append(ns, r.NsPerStep)
@@ -154,6 +156,7 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 			withFactor("RMSE", scRMSE) + " [95% CI]",
 			withFactor("pred RMSE", scPred),
 			withFactor("ANEES", scANEES) + " [95% bounds]",
+			withFactor("median run ANEES", scANEES),
 			"NEES in (%)",
 			withFactor("ANIS", scANIS) + " [95% bounds]",
 			scTime.label + "/step",
@@ -162,7 +165,7 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 			"mean ESS",
 			"notes",
 		},
-		right: []bool{false, false, false, true, true, true, true, true, true, true, true, true, true, true, false},
+		right: []bool{false, false, false, true, true, true, true, true, true, true, true, true, true, true, true, false},
 		prov:  provenanceLine(prov),
 	}
 	index := map[string]int{} // note text -> footnote number
@@ -182,6 +185,7 @@ func buildHuman(rows []SummaryRow, prov Provenance) *human {
 			c[hRMSE] = withInterval(scRMSE, r.RMSE, r.RMSELo, r.RMSEHi)
 			c[hPred] = scPred.format(r.PredRMSE)
 			c[hANEES] = withBounds(scANEES, r.ANEES, r.ANEESLo, r.ANEESHi)
+			c[hANEESMed] = scANEES.format(r.ANEESRunMedian)
 			c[hNEESIn] = scIn.format(100 * r.NEESInBounds)
 			c[hANIS] = withBounds(scANIS, r.ANIS, r.ANISLo, r.ANISHi)
 			h.legend = true
@@ -229,7 +233,9 @@ func (h *human) drop(i int) {
 // legend explains the consistency columns.
 const legend = "in/high/low: ANEES or ANIS inside, above or below its two-sided 95% chi-square bounds " +
 	"(high: the filter's covariance is too small, overconfident; low: too large, pessimistic). " +
-	"NEES in: percent of steps whose run-averaged NEES is inside its own 95% bounds (near 95 when consistent)."
+	"NEES in: percent of steps whose run-averaged NEES is inside its own 95% bounds (near 95 when consistent). " +
+	"median run ANEES: the median over runs of each run's ANEES, which a few runs whose NEES explodes cannot move " +
+	"(near the state dimension, slightly below it, when consistent)."
 
 func provenanceLine(p Provenance) string {
 	if p == (Provenance{}) {

@@ -33,7 +33,7 @@ func fixtureRows() []SummaryRow {
 			Problem: "cv2d", Filter: "kf", Applicable: true,
 			Summary: metrics.Summary{
 				Runs: 100, RMSE: 0.52130987654321, RMSELo: 0.4987, RMSEHi: 0.5471, PredRMSE: 1.7342,
-				ANEES: 4.0123, ANEESLo: 3.8902, ANEESHi: 4.1118, NEESInBounds: 0.953,
+				ANEES: 4.0123, ANEESLo: 3.8902, ANEESHi: 4.1118, ANEESRunMedian: 3.9871, NEESInBounds: 0.953,
 				ANIS: 2.0087, ANISLo: 1.9453, ANISHi: 2.0561, NISInBounds: 0.948,
 				NsPerStep: 412.7, MeanESS: nan,
 			},
@@ -49,7 +49,7 @@ func fixtureRows() []SummaryRow {
 			Problem: "ungm", Filter: "ekf", Applicable: true,
 			Summary: metrics.Summary{
 				Runs: 100, RMSE: 14.9031, RMSELo: 13.2, RMSEHi: 16.75, PredRMSE: 21.06,
-				ANEES: 57.31, ANEESLo: 0.9461, ANEESHi: 1.0559, NEESInBounds: 0.12,
+				ANEES: 57.31, ANEESLo: 0.9461, ANEESHi: 1.0559, ANEESRunMedian: 3.874, NEESInBounds: 0.12,
 				ANIS: 3.104, ANISLo: 0.9461, ANISHi: 1.0559, NISInBounds: 0.41,
 				NsPerStep: 1890.25, MeanESS: nan,
 			},
@@ -60,7 +60,7 @@ func fixtureRows() []SummaryRow {
 			Problem: "ungm", Filter: "pf", Config: "particles=1000", Applicable: true,
 			Summary: metrics.Summary{
 				Runs: 100, Diverged: 3, RMSE: 4.871, RMSELo: 4.52, RMSEHi: 5.233, PredRMSE: nan,
-				ANEES: 1.0204, ANEESLo: 0.9453, ANEESHi: 1.0567, NEESInBounds: 0.9,
+				ANEES: 1.0204, ANEESLo: 0.9453, ANEESHi: 1.0567, ANEESRunMedian: 0.9912, NEESInBounds: 0.9,
 				ANIS: nan, ANISLo: nan, ANISHi: nan, NISInBounds: nan,
 				NsPerStep: 241300, MeanESS: 412.5,
 				Warnings: []string{"3 of 100 runs diverged (first: run 17, step 42: weights degenerate)"},
@@ -72,7 +72,7 @@ func fixtureRows() []SummaryRow {
 			Problem: "ctrb", Filter: "ukf", Config: "alpha=0.001 kappa=0", Applicable: true,
 			Summary: metrics.Summary{
 				Runs: 8, RMSE: 0.000123456, RMSELo: 0.000101, RMSEHi: 0.000149, PredRMSE: 0.0412,
-				ANEES: 1.62, ANEESLo: 2.4573, ANEESHi: 3.5812, NEESInBounds: 0.047,
+				ANEES: 1.62, ANEESLo: 2.4573, ANEESHi: 3.5812, ANEESRunMedian: 1.58, NEESInBounds: 0.047,
 				ANIS: 0.95, ANISLo: 0.8112, ANISHi: 1.2074, NISInBounds: 0.93,
 				NsPerStep: 2950, MeanESS: nan,
 				Warnings: []string{"bounds from 8 runs are loose: use --runs 20 or more"},
@@ -84,7 +84,7 @@ func fixtureRows() []SummaryRow {
 			Problem: "ctrb", Filter: "ekf", Applicable: true,
 			Summary: metrics.Summary{
 				Runs: 8, RMSE: 0.00031, RMSELo: 0.00027, RMSEHi: 0.00036, PredRMSE: 0.0391,
-				ANEES: 3.01, ANEESLo: 2.4573, ANEESHi: 3.5812, NEESInBounds: 0.94,
+				ANEES: 3.01, ANEESLo: 2.4573, ANEESHi: 3.5812, ANEESRunMedian: 2.97, NEESInBounds: 0.94,
 				ANIS: 1.01, ANISLo: 0.8112, ANISHi: 1.2074, NISInBounds: 0.95,
 				NsPerStep: 1204.5, MeanESS: nan,
 				Warnings: []string{"bounds from 8 runs are loose: use --runs 20 or more"},
@@ -96,7 +96,7 @@ func fixtureRows() []SummaryRow {
 			Problem: "track", Filter: "kf", Applicable: true,
 			Summary: metrics.Summary{
 				Runs: 20, RMSE: nan, RMSELo: nan, RMSEHi: nan, PredRMSE: 14.27,
-				ANEES: nan, ANEESLo: nan, ANEESHi: nan, NEESInBounds: nan,
+				ANEES: nan, ANEESLo: nan, ANEESHi: nan, ANEESRunMedian: nan, NEESInBounds: nan,
 				ANIS: 2.31, ANISLo: 1.8137, ANISHi: 2.2063, NISInBounds: 0.9,
 				NsPerStep: 390.2, MeanESS: nan,
 				Warnings: []string{metrics.NoTruthWarning},
@@ -255,8 +255,9 @@ func exactRows() []SummaryRow {
 		Summary: metrics.Summary{
 			Runs: 3, Diverged: 1,
 			RMSE: math.Nextafter(0.3, 1), RMSELo: 1.0 / 3, RMSEHi: 2.0 / 3,
-			ANEES: math.Pi * 1e-7, ANEESLo: 5e-324, ANEESHi: math.MaxFloat64, NEESInBounds: math.Copysign(0, -1),
-			ANIS: math.Inf(1), ANISLo: nan, ANISHi: math.Nextafter(1, 2),
+			ANEES: math.Pi * 1e-7, ANEESLo: 5e-324, ANEESHi: math.MaxFloat64, ANEESRunMedian: math.Nextafter(math.Pi*1e-7, 0),
+			NEESInBounds: math.Copysign(0, -1),
+			ANIS:         math.Inf(1), ANISLo: nan, ANISHi: math.Nextafter(1, 2),
 			NsPerStep: 123456789.123456789, MeanESS: nan,
 			Warnings: []string{"first; with semicolon", "second"},
 		},
