@@ -546,12 +546,15 @@ func (w *worker) score(tr *metrics.RunTrace) {
 	for k := 1; k <= w.prob.Steps; k++ {
 		i := k - 1
 		x := w.xs[i*nx : (i+1)*nx]
+		// A step not scored is checked like one without truth: its truth
+		// may be missing (NaN where a reference lost the target).
+		unscored := noTruth || (w.prob.Eval != nil && !w.prob.Eval[i])
 		switch {
-		case m.Manifold != nil && noTruth:
+		case m.Manifold != nil && unscored:
 			m.Manifold.Minus(w.err, x, x) // 0, or NaN for a non-finite estimate
 		case m.Manifold != nil:
 			m.Manifold.Minus(w.err, w.seq.State(k), x)
-		case noTruth:
+		case unscored:
 			for j := range x {
 				w.err[j] = x[j] - x[j] // 0, or NaN for a non-finite estimate
 			}
@@ -594,7 +597,7 @@ func (w *worker) score(tr *metrics.RunTrace) {
 		}
 		tr.SqErr[i] = se
 		tr.NEES[i] = nees
-		if noTruth || (w.prob.Eval != nil && !w.prob.Eval[i]) {
+		if unscored {
 			tr.SqErr[i], tr.NEES[i] = math.NaN(), math.NaN()
 		}
 		tr.NIS[i] = math.NaN()

@@ -14,6 +14,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 
 	"github.com/estbench/estbench/datasets"
@@ -282,25 +283,49 @@ func extract(rec *recorded.Recording, c Config) (*data, error) {
 	if rows < 2 {
 		return nil, fmt.Errorf("datasets: attitude: %s has %d rows; the problem needs at least 2", name, rec.Len())
 	}
+	finite := func(col *recorded.Column, i int) bool {
+		return col.Has(i) && !math.IsNaN(col.Values[i]) && !math.IsInf(col.Values[i], 0)
+	}
+	// The sensors must be complete; the reference may lose the target
+	// (optical occlusion): such rows have NaN truth and are not scored.
 	for i := 0; i < rows; i++ {
 		for _, n := range need {
-			if col := cols[n]; !col.Has(i) || math.IsNaN(col.Values[i]) || math.IsInf(col.Values[i], 0) {
-				return nil, fmt.Errorf("datasets: attitude: %s: row %d (t = %.4f s): %s has no finite sample; the problem needs every row complete (choose a window without gaps)", name, i, rec.T[i], n)
+			if slices.Contains(quatCols, n) {
+				continue
+			}
+			if !finite(cols[n], i) {
+				return nil, fmt.Errorf("datasets: attitude: %s: row %d (t = %.4f s): %s has no finite sample; the problem needs every sensor row complete (choose a window without gaps)", name, i, rec.T[i], n)
 			}
 		}
 	}
 	d := &data{t: rec.T[:rows]}
 	d.gyro = make([][3]float64, rows)
 	d.truth = make([]geo.Quat, rows)
+	hasTruth := make([]bool, rows)
+	gaps := 0
+	nan := math.NaN()
 	for i := 0; i < rows; i++ {
 		for j, n := range gyroCols {
 			d.gyro[i][j] = cols[n].Values[i]
+		}
+		ok := true
+		for _, n := range quatCols {
+			ok = ok && finite(cols[n], i)
+		}
+		if !ok {
+			if i == 0 {
+				return nil, fmt.Errorf("datasets: attitude: %s: row 0 (t = %.4f s) has no true orientation; the runs' priors start from it (choose a window that starts with one)", name, rec.T[0])
+			}
+			d.truth[i] = geo.Quat{W: nan, X: nan, Y: nan, Z: nan}
+			gaps++
+			continue
 		}
 		q := geo.Quat{W: cols[quatCols[0]].Values[i], X: cols[quatCols[1]].Values[i], Y: cols[quatCols[2]].Values[i], Z: cols[quatCols[3]].Values[i]}
 		if n := q.Norm(); math.Abs(n-1) > 1e-3 {
 			return nil, fmt.Errorf("datasets: attitude: %s: row %d (t = %.4f s): true quaternion has norm %.6f, not 1", name, i, rec.T[i], n)
 		}
 		d.truth[i] = q.Normalize()
+		hasTruth[i] = true
 	}
 	nz := 3
 	if c.Magnetometer {
@@ -318,12 +343,13 @@ func extract(rec *recorded.Recording, c Config) (*data, error) {
 			}
 		}
 	}
-	if ev := rec.Column(evalCol); ev != nil {
-		// With no step marked (a short Steps), the summary says that nothing
-		// is scored rather than failing.
+	// Scored steps: those the data mark (if they mark any) that have truth.
+	// With no step marked (a short Steps), the summary says that nothing
+	// is scored rather than failing.
+	if ev := rec.Column(evalCol); ev != nil || gaps > 0 {
 		d.eval = make([]bool, rows-1)
 		for k := 1; k < rows; k++ {
-			d.eval[k-1] = ev.Has(k) && ev.Values[k] == 1
+			d.eval[k-1] = hasTruth[k] && (ev == nil || (ev.Has(k) && ev.Values[k] == 1))
 		}
 	}
 	steps := make([]float64, rows-1)
@@ -336,6 +362,9 @@ func extract(rec *recorded.Recording, c Config) (*data, error) {
 		var sum geo.Vec3
 		n := 0
 		for i := 0; i < rows && d.t[i]-d.t[0] <= 1; i++ {
+			if !hasTruth[i] {
+				continue
+			}
 			m := d.truth[i].Rotate(geo.Vec3{cols[magCols[0]].Values[i], cols[magCols[1]].Values[i], cols[magCols[2]].Values[i]})
 			for j := range sum {
 				sum[j] += m[j]
@@ -359,12 +388,8 @@ func (d *data) increment(b []float64, k int) [3]float64 {
 }
 
 func median(v []float64) float64 {
-	s := append([]float64(nil), v...)
-	for i := 1; i < len(s); i++ { // insertion sort is plenty for a one-off; rows are nearly equal
-		for j := i; j > 0 && s[j] < s[j-1]; j-- {
-			s[j], s[j-1] = s[j-1], s[j]
-		}
-	}
+	s := slices.Clone(v)
+	slices.Sort(s)
 	return s[len(s)/2]
 }
 
