@@ -33,8 +33,12 @@ func writeList(w io.Writer, cat *bench.Catalogue) {
 		fmt.Fprintf(w, "\n  %s — %s\n", p.Name, p.Summary)
 		fmt.Fprintf(w, "    source: %s\n", p.Source)
 		if prob, err := p.Build(bench.Defaults(p.Params)); err == nil {
-			fmt.Fprintf(w, "    states %d, measurements %d, steps %d; scored components %v\n",
-				prob.Model.Nx, prob.Model.Nz, prob.Steps, prob.Scored)
+			states := fmt.Sprint(prob.Model.Nx)
+			if prob.Model.Manifold != nil {
+				states += fmt.Sprintf(" (on a manifold: errors and covariances of dimension %d)", prob.Model.Nd())
+			}
+			fmt.Fprintf(w, "    states %s, measurements %d, steps %d; scored components %v\n",
+				states, prob.Model.Nz, prob.Steps, prob.Scored)
 			fmt.Fprintf(w, "    traits: %s\n", traitWords(prob.Traits))
 		}
 		writeParams(w, p.Params)
@@ -44,7 +48,11 @@ func writeList(w io.Writer, cat *bench.Catalogue) {
 		fmt.Fprintf(w, "\n  %s — %s\n", f.Name, f.Summary)
 		fmt.Fprintf(w, "    source: %s\n", f.Source)
 		if f.Traits != "" {
-			fmt.Fprintf(w, "    applies to: %s\n", f.Traits)
+			on := "; not to a state on a manifold"
+			if f.Manifold {
+				on = "; also to a state on a manifold"
+			}
+			fmt.Fprintf(w, "    applies to: %s%s\n", f.Traits, on)
 		}
 		writeParams(w, f.Params)
 	}
@@ -81,5 +89,8 @@ func traitWords(t datasets.Traits) string {
 	add(t.AnalyticJacobians, "analytic Jacobians", "")
 	add(t.AdditiveNoise, "additive noise", "non-additive noise")
 	add(t.GaussianNoise, "Gaussian noise", "non-Gaussian noise")
+	if t.Manifold != "" {
+		w = append(w, "state on a manifold ("+strings.TrimPrefix(t.Manifold, "has ")+")")
+	}
 	return strings.Join(w, ", ")
 }
