@@ -93,6 +93,15 @@
 // measurement (one run's values; the runs are not independent samples of
 // the data), the per-step NIS bounds m = 1.
 //
+// A step whose SqErr is NaN is not scored (recorded data that mark the
+// samples to evaluate, or that lack truth there): it is left out of RMSE,
+// ANEES, the run averages and the curves, and M·K above becomes the number
+// N of scored (run, step) pairs, K the number of steps scored in some run.
+// With Replayed (recorded data against a fixed truth, the same in every
+// run; the runs differ only in what their streams draw, such as the prior
+// error) the ANEES and ANIS bounds use one run's values, m = K for ANEES,
+// and the per-step bounds m = 1, as for NoTruth.
+//
 // RMSELo/Hi is the 95% percentile bootstrap interval over runs (Efron &
 // Tibshirani 1993, "An Introduction to the Bootstrap", §13.3): runs are
 // resampled with replacement, each resample scored as the square root of
