@@ -12,6 +12,15 @@
 // covariance of Update(z, k) is Model.R, or the value Model.RAt gives for
 // step k when the model has one: every filter here honours it.
 //
+// # States on a manifold
+//
+// A model whose state is not a vector space (a unit quaternion) sets
+// Model.Manifold: the maps x ⊞ δ and y ⊟ x and the dimension Nd of δ. The
+// covariances (prior, Q, EstimateTo's) are then Nd*Nd, of δ, and the
+// Jacobians are tangent Jacobians. ekf runs as the multiplicative EKF; ukf,
+// ckf and ghkf draw sigma points in δ and average on the manifold; the
+// other filters return ErrManifold from their constructors.
+//
 // # Memory
 //
 // All workspace is sized in New*. Reset, Predict, Update and EstimateTo
