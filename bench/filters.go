@@ -131,16 +131,17 @@ func builtinFilters() []FilterSpec {
 			},
 		},
 		{
-			Name:    "pf",
-			Summary: "bootstrap particle filter, log-weights, resampling on an ESS threshold (systematic, stratified, multinomial or residual), optional roughening",
-			Source:  "Gordon, Salmond & Smith 1993, IEE Proc. F 140(2); systematic resampling: Kitagawa 1996; schemes: Douc, Cappé & Moulines 2005, ISPA",
-			Traits:  particleTraits,
+			Name:     "pf",
+			Manifold: true,
+			Summary:  "bootstrap particle filter, log-weights, resampling on an ESS threshold (systematic, stratified, multinomial or residual), optional roughening; on a manifold state (attitude) noise in the tangent and the weighted Karcher mean",
+			Source:   "Gordon, Salmond & Smith 1993, IEE Proc. F 140(2); systematic resampling: Kitagawa 1996; schemes: Douc, Cappé & Moulines 2005, ISPA; Karcher mean: Hauberg, Lauze & Pedersen 2013, J. Math. Imaging Vis. 46(1)",
+			Traits:   particleTraits,
 			Params: []Param{
 				particlesParam(),
 				resampleESSParam(),
 				resampleParam(),
 				{Name: "roughening", Kind: Float, Default: Value{Num: 0}, Min: 0, Max: 10,
-					Doc: "roughening constant K: after resampling, jitter of sd K·E·N^(-1/d), E the range of each component (0 = off)"},
+					Doc: "roughening constant K: after resampling, jitter of sd K·E·N^(-1/d), E the range of each component (0 = off; not on a manifold state)"},
 			},
 			Applies: particleApplies,
 			New: func(m *filters.Model, v Values) (filters.Filter, error) {

@@ -2,6 +2,7 @@ package filters_test
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -97,7 +98,8 @@ func TestManifoldRefused(t *testing.T) {
 		"kf":    func() error { _, err := filters.NewKF(m, filters.KFConfig{}); return err },
 		"iekf":  func() error { _, err := filters.NewIEKF(m, filters.IEKFConfig{}); return err },
 		"srukf": func() error { _, err := filters.NewSRUKF(m, filters.SRUKFConfig{}); return err },
-		"pf":    func() error { _, err := filters.NewPF(m, filters.PFConfig{}); return err },
+		"apf":   func() error { _, err := filters.NewAPF(m, filters.APFConfig{}); return err },
+		"rpf":   func() error { _, err := filters.NewRPF(m, filters.RPFConfig{}); return err },
 		"enkf":  func() error { _, err := filters.NewEnKF(m, filters.EnKFConfig{}); return err },
 	} {
 		if err := mk(); !errors.Is(err, filters.ErrManifold) {
@@ -392,6 +394,224 @@ func BenchmarkManifoldAttitude(b *testing.B) {
 					b.Fatal(err)
 				}
 			}
+		})
+	}
+}
+
+// The pf on the Euclidean manifold draws the same noise and so holds
+// bit-identical particles to the pf on the vector space from the same
+// stream; only its mean (x₀ + Σ wᵢ(xᵢ − x₀) from the particle of largest
+// weight, then a second step) differs, by rounding. Its estimate and
+// innovation must match the ordinary pf's to 1e-9 (a tolerance far above
+// rounding, far below the Monte Carlo error; our choice) at every step of
+// CV2D runs with missing measurements, and so it approaches the kf as the
+// ordinary pf does (TestPFApproachesKF).
+func TestManifoldPFEuclideanEqualsPF(t *testing.T) {
+	m := filtertest.CV2D(0.5, 4)
+	me := withEuclidean(m)
+	x0, p0 := filtertest.CV2DPrior()
+	for _, cfg := range []filters.PFConfig{
+		{Particles: 1000},
+		{Particles: 500, ResampleThreshold: 0.5, Resample: filters.ResampleResidual},
+	} {
+		a, b := newPF(t, m, cfg), newPF(t, me, cfg)
+		for seed := uint64(1); seed <= 3; seed++ {
+			data := rand.New(rand.NewPCG(seed, 1))
+			xt := make([]float64, 4)
+			filtertest.Gaussian(xt, x0, p0, data)
+			_, zs := filtertest.Simulate(m, xt, 40, data)
+			zs[6], zs[20] = nil, nil
+			if err := a.Reset(x0, p0, rand.New(rand.NewPCG(seed, 2))); err != nil {
+				t.Fatal(err)
+			}
+			if err := b.Reset(x0, p0, rand.New(rand.NewPCG(seed, 2))); err != nil {
+				t.Fatal(err)
+			}
+			xa, pa, xb, pb := make([]float64, 4), make([]float64, 16), make([]float64, 4), make([]float64, 16)
+			na, sa, nb, sb := make([]float64, 2), make([]float64, 4), make([]float64, 2), make([]float64, 4)
+			for k := 1; k <= len(zs); k++ {
+				for _, f := range []*filters.PF{a, b} {
+					if err := f.Predict(k); err != nil {
+						t.Fatalf("step %d: %v", k, err)
+					}
+					if err := f.Update(zs[k-1], k); err != nil {
+						t.Fatalf("step %d: %v", k, err)
+					}
+				}
+				a.EstimateTo(xa, pa)
+				b.EstimateTo(xb, pb)
+				ia, ib := a.InnovationTo(na, sa), b.InnovationTo(nb, sb)
+				if ia != ib {
+					t.Fatalf("seed %d step %d: innovation reported %v and %v", seed, k, ia, ib)
+				}
+				for _, c := range [][2][]float64{{xb, xa}, {pb, pa}, {nb, na}, {sb, sa}} {
+					if i := firstDiffRel(c[0], c[1], 1e-9); i >= 0 {
+						t.Fatalf("cfg %+v seed %d step %d: manifold pf %v, pf %v (index %d)", cfg, seed, k, c[0], c[1], i)
+					}
+				}
+				if a.ESS() != b.ESS() {
+					t.Fatalf("seed %d step %d: ESS %v and %v", seed, k, b.ESS(), a.ESS())
+				}
+			}
+		}
+	}
+	filtertest.HandlesMissing(t, newPF(t, me, filters.PFConfig{Particles: 200}), me, x0, p0)
+}
+
+// firstDiffRel returns the first index where got and want differ by more
+// than tol·max(1, |want|), or -1.
+func firstDiffRel(got, want []float64, tol float64) int {
+	for i := range want {
+		if !(math.Abs(got[i]-want[i]) <= tol*math.Max(1, math.Abs(want[i]))) {
+			return i
+		}
+	}
+	return -1
+}
+
+// On the quaternion attitude model the pf with 5000 particles agrees with
+// the multiplicative EKF and the UKF on the same data: the tangent
+// difference d = x_pf ⊟ x_ekf of the means is the Monte Carlo error of
+// the pf's weighted mean, of covariance about P/ESS (the variance of an
+// importance-sampling mean, Kong, Liu & Wong 1994, "Sequential imputations
+// and Bayesian missing data problems", JASA 89(425), from memory), so
+// ESS·dᵀP⁻¹d is about χ²(3); we allow 4 times its 0.999 quantile (the
+// factor for the spread that resampling adds and the EKF's linearisation,
+// our choice). The covariances agree to the relative Frobenius gap of
+// TestPFApproachesKF's bound, 10·(tr(P)² + ‖P‖²)/‖P‖² / ESS (a Wishart
+// sample of size ESS), and the pf's mean stays a unit quaternion.
+func TestManifoldPFAttitude(t *testing.T) {
+	w := [3]float64{0.02, -0.05, 0.03}
+	m := attitudeModel(w, 1e-4, 4e-4)
+	sim := attitudeModel(w, 1e-4, 4e-4)
+	ekf, err := filters.NewEKF(m, filters.EKFConfig{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	ukf, err := filters.NewUKF(m, filters.DefaultUKF())
+	if err != nil {
+		t.Fatal(err)
+	}
+	pf := newPF(t, m, filters.PFConfig{Particles: 5000})
+	chi := distuv.ChiSquared{K: 3}.Quantile(0.999)
+	p0 := []float64{4e-4, 0, 0, 0, 4e-4, 0, 0, 0, 4e-4}
+	const steps = 25
+	for seed := uint64(1); seed <= 3; seed++ {
+		rng := rand.New(rand.NewPCG(seed, 5))
+		truth := []float64{1, 0, 0, 0}
+		d := []float64{0.02 * rng.NormFloat64(), 0.02 * rng.NormFloat64(), 0.02 * rng.NormFloat64()}
+		x0 := make([]float64, 4)
+		so3.Plus(x0, truth, d)
+		if err := ekf.Reset(x0, p0, nil); err != nil {
+			t.Fatal(err)
+		}
+		if err := ukf.Reset(x0, p0, nil); err != nil {
+			t.Fatal(err)
+		}
+		if err := pf.Reset(x0, p0, rand.New(rand.NewPCG(seed, 6))); err != nil {
+			t.Fatal(err)
+		}
+		z, nxt := make([]float64, 6), make([]float64, 4)
+		xp, pp := make([]float64, 4), make([]float64, 9)
+		xr, pr := make([]float64, 4), make([]float64, 9)
+		var worstMean, worstCov float64
+		for k := 1; k <= steps; k++ {
+			sim.F(nxt, truth, k)
+			for i := range d {
+				d[i] = 1e-2 * rng.NormFloat64()
+			}
+			so3.Plus(truth, nxt, d)
+			sim.H(z, truth, k)
+			for i := range z {
+				z[i] += 2e-2 * rng.NormFloat64()
+			}
+			for _, f := range []filters.Filter{ekf, ukf, pf} {
+				if err := f.Predict(k); err != nil {
+					t.Fatalf("seed %d step %d: %v", seed, k, err)
+				}
+				if err := f.Update(z, k); err != nil {
+					t.Fatalf("seed %d step %d: %v", seed, k, err)
+				}
+			}
+			ess := pf.ESS()
+			pf.EstimateTo(xp, pp)
+			if n := math.Hypot(math.Hypot(xp[0], xp[1]), math.Hypot(xp[2], xp[3])); math.Abs(n-1) > 1e-12 {
+				t.Fatalf("seed %d step %d: pf estimate is not a unit quaternion: %v (norm %v)", seed, k, xp, n)
+			}
+			for name, ref := range map[string]filters.Filter{"ekf": ekf, "ukf": ukf} {
+				ref.EstimateTo(xr, pr)
+				e := make([]float64, 3)
+				so3.Minus(e, xp, xr)
+				mq := ess * nees3(e, pr) / chi
+				cq := relSq(pp, pr) * ess / (10 * wishartRel(pr, 3))
+				worstMean, worstCov = max(worstMean, mq), max(worstCov, cq)
+				if mq > 4 {
+					t.Errorf("seed %d step %d: pf mean is %.3g rad from the %s's, ESS·dᵀP⁻¹d = %.3g > 4·%.3g",
+						seed, k, math.Sqrt(e[0]*e[0]+e[1]*e[1]+e[2]*e[2]), name, mq*chi, chi)
+				}
+				if cq > 1 {
+					t.Errorf("seed %d step %d: pf covariance %.3g from the %s's %.3g (relative squared gap %.3g, ESS %.0f)",
+						seed, k, pp, name, pr, relSq(pp, pr), ess)
+				}
+			}
+		}
+		t.Logf("seed %d: worst mean gap %.3g and covariance gap %.3g of their bounds", seed, worstMean/4, worstCov)
+	}
+}
+
+// The pf refuses roughening on a manifold, whose tangent has no fixed
+// coordinates to take component ranges in.
+func TestManifoldPFRougheningRefused(t *testing.T) {
+	m := attitudeModel([3]float64{0.02, -0.05, 0.03}, 1e-4, 4e-4)
+	if _, err := filters.NewPF(m, filters.PFConfig{Roughening: 0.2}); err == nil {
+		t.Error("pf with roughening on a manifold: no error")
+	}
+}
+
+// The pf's manifold path allocates nothing per step, with and without a
+// per-step R.
+func TestManifoldPFNoAllocs(t *testing.T) {
+	m := attitudeModel([3]float64{0.02, -0.05, 0.03}, 1e-4, 4e-4)
+	x0 := []float64{1, 0, 0, 0}
+	p0 := []float64{0.01, 0, 0, 0, 0.01, 0, 0, 0, 0.01}
+	z := []float64{0.1, 0, 1, 0.6, 0.05, -0.8}
+	filtertest.NoAllocs(t, newPF(t, m, filters.PFConfig{Particles: 300}), m, x0, p0, z)
+	mr := *m
+	mr.RAt = func(dst []float64, k int) bool {
+		copy(dst, m.R)
+		for i := 0; i < 6; i++ {
+			dst[i*6+i] *= 1 + float64(k%3)
+		}
+		return k%4 != 0
+	}
+	filtertest.NoAllocs(t, newPF(t, &mr, filters.PFConfig{Particles: 300, ResampleThreshold: 0.5}), &mr, x0, p0, z)
+}
+
+// BenchmarkManifoldPF is one predict+update+estimate step of the pf on
+// the quaternion attitude model, reported per particle.
+func BenchmarkManifoldPF(b *testing.B) {
+	m := attitudeModel([3]float64{0.02, -0.05, 0.03}, 1e-4, 4e-4)
+	x0 := []float64{1, 0, 0, 0}
+	p0 := []float64{0.01, 0, 0, 0, 0.01, 0, 0, 0, 0.01}
+	z := []float64{0, 0, 1, 0.6, 0, -0.8}
+	for _, n := range []int{1000, 5000} {
+		b.Run(fmt.Sprintf("problem=attitude/filter=pf/particles=%d", n), func(b *testing.B) {
+			f := newPF(b, m, filters.PFConfig{Particles: n})
+			if err := f.Reset(x0, p0, rand.New(rand.NewPCG(1, 2))); err != nil {
+				b.Fatal(err)
+			}
+			x, p := make([]float64, 4), make([]float64, 9)
+			b.ReportAllocs()
+			for k := 1; b.Loop(); k++ {
+				if err := f.Predict(k); err != nil {
+					b.Fatal(err)
+				}
+				if err := f.Update(z, k); err != nil {
+					b.Fatal(err)
+				}
+				f.EstimateTo(x, p)
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(n), "ns/particle-step")
 		})
 	}
 }

@@ -23,6 +23,7 @@ type PFConfig struct {
 	// jitter with σ_c = K·E_c·N^(−1/Nx), E_c the range of component c
 	// over the resampled particles (angle components are then wrapped).
 	// Zero (the default) turns it off; it must be finite and not negative.
+	// It is not supported for a state on a manifold (Model.Manifold).
 	Roughening float64
 }
 
@@ -81,6 +82,22 @@ const (
 // drawn per particle, and S is their weighted covariance (R is then the
 // covariance of v, not of the measurement).
 //
+// # State on a manifold
+//
+// On a model with a Manifold (pf only: apf and rpf return ErrManifold) the
+// noise is drawn in the tangent: Reset draws x0 ⊞ L n with L L' = p0 and n
+// standard normal (Dim draws), and Predict moves a particle to F(x) ⊞ w,
+// w ~ N(0, Q). The estimate is taken only when EstimateTo asks for it,
+// from the weighted particles of the last update (before resampling) or of
+// the last prediction: the mean is the weighted Karcher mean, from the
+// particle of largest weight by two Gauss–Newton steps
+// x ← x ⊞ Σ wᵢ (xᵢ ⊟ x) (Hauberg, Lauze & Pedersen 2013, "Unscented
+// Kalman filtering on Riemannian manifolds", J. Math. Imaging and Vision
+// 46(1), §3), and the covariance Σ wᵢ dᵢ dᵢᵀ with dᵢ = xᵢ ⊟ mean (Dim*Dim).
+// That costs three passes of Minus over the particles. Update then returns
+// ErrNonFinite if a particle is not finite, instead of checking the
+// estimate.
+//
 // PF implements Filter, Innovator and ESSer. It calls Model.FMany and
 // Model.HMany, when set, once per step for all particles (stored one after
 // another), and F and H per particle otherwise (FW and HV always per
@@ -90,10 +107,11 @@ const (
 // ExpFloat64 (multinomial, residual).
 type PF struct {
 	m      *Model
-	name   string  // "pf" or "rpf", for messages
-	n      int     // particles
-	thresh float64 // resample when ess < thresh*n
-	scalar bool    // Nx == Nz == 1, additive Gaussian noise, no angles: scalar fast paths
+	name   string    // "pf" or "rpf", for messages
+	mf     *Manifold // Model.Manifold (pf only), nil on a vector space
+	n      int       // particles
+	thresh float64   // resample when ess < thresh*n
+	scalar bool      // Nx == Nz == 1, additive Gaussian noise, no angles: scalar fast paths
 
 	rs    resampler // resampling scheme and its workspace
 	rough float64   // roughening constant K, 0 = off
@@ -133,6 +151,12 @@ type PF struct {
 	haveInnov bool      // nu and s are set
 	resamples int       // resampling events since Reset (tests)
 
+	// on a manifold only: the particles and weights (nil: equal) that the
+	// estimate describes while estOK is false, and its workspace
+	ex, ew []float64
+	td     []float64 // one tangent vector (noise draw, mean step), Nd
+	xa     []float64 // one state, Nx
+
 	// workspace, sized in NewPF, reused every step
 	zh  []float64 // predicted measurements H(x_i), n*Nz
 	zm  []float64 // weighted mean of zh, Nz
@@ -162,7 +186,7 @@ func NewPF(m *Model, cfg PFConfig) (*PF, error) {
 
 func newPF(m *Model, cfg PFConfig, name string) (*PF, error) {
 	m.check()
-	if m.Manifold != nil {
+	if m.Manifold != nil && name != "pf" {
 		return nil, ErrManifold
 	}
 	n := cfg.Particles
@@ -185,11 +209,14 @@ func newPF(m *Model, cfg PFConfig, name string) (*PF, error) {
 	if !(cfg.Roughening >= 0) || math.IsInf(cfg.Roughening, 0) {
 		return nil, errors.New("filters: " + name + ": Roughening must be finite and not negative")
 	}
+	if m.Manifold != nil && cfg.Roughening != 0 {
+		return nil, errors.New("filters: " + name + ": Roughening is not supported for a state on a manifold (Model.Manifold)")
+	}
 	if m.HV != nil && m.MeasLogLik == nil {
 		return nil, errors.New("filters: " + name + ": the model's measurement noise is not additive (HV) and it has no MeasLogLik; the likelihood of HV(x, v) is not available")
 	}
-	nx, nz := m.Nx, m.Nz
-	nwd, nvd := nx, nz
+	nx, nz, nd := m.Nx, m.Nz, m.Nd()
+	nwd, nvd := nd, nz
 	if m.FW != nil {
 		nwd = m.Nw
 	}
@@ -202,8 +229,9 @@ func newPF(m *Model, cfg PFConfig, name string) (*PF, error) {
 		name:   name,
 		n:      n,
 		thresh: th,
+		mf:     m.Manifold,
 		scalar: nx == 1 && nz == 1 && len(m.AngleState) == 0 && len(m.AngleMeas) == 0 &&
-			m.Additive() && m.MeasLogLik == nil,
+			m.Additive() && m.MeasLogLik == nil && m.Manifold == nil,
 		rs:    newResampler(cfg.Resample, n),
 		rough: cfg.Roughening,
 		sig:   make([]float64, nx),
@@ -214,7 +242,7 @@ func newPF(m *Model, cfg PFConfig, name string) (*PF, error) {
 		lw:    make([]float64, n),
 		w:     make([]float64, n),
 		mean:  make([]float64, nx),
-		cov:   make([]float64, nx*nx),
+		cov:   make([]float64, nd*nd),
 		nu:    make([]float64, nz),
 		s:     make([]float64, nz*nz),
 		zh:    make([]float64, n*nz),
@@ -222,9 +250,13 @@ func newPF(m *Model, cfg PFConfig, name string) (*PF, error) {
 		r:     make([]float64, nm),
 		e:     make([]float64, max(nx, nwd, nvd)),
 		nw:    make([]float64, nwd),
-		l0:    make([]float64, nx*nx),
-		p0c:   make([]int, 0, nx),
+		l0:    make([]float64, nd*nd),
+		p0c:   make([]int, 0, nd),
 		res:   make([]float64, n*nm),
+	}
+	if f.mf != nil {
+		f.td = make([]float64, nd)
+		f.xa = make([]float64, nx)
 	}
 	if !semiChol(f.lq, m.Q, nwd) {
 		return nil, ErrNotPosDef
@@ -273,10 +305,11 @@ func (f *PF) noiseAt(k int) bool {
 	return true
 }
 
-// Reset draws the particles from N(x0, p0) and sets equal weights.
+// Reset draws the particles from N(x0, p0) (x0 ⊞ N(0, p0) on a manifold)
+// and sets equal weights.
 func (f *PF) Reset(x0, p0 []float64, rng *rand.Rand) error {
-	nx := f.m.Nx
-	if len(x0) != nx || len(p0) != nx*nx {
+	nx, nd := f.m.Nx, f.m.Nd()
+	if len(x0) != nx || len(p0) != nd*nd {
 		panic("filters: " + f.name + ": dimension mismatch")
 	}
 	if rng == nil {
@@ -288,16 +321,26 @@ func (f *PF) Reset(x0, p0 []float64, rng *rand.Rand) error {
 	if !allFinite(x0) {
 		return ErrNonFinite
 	}
-	if !semiChol(f.l0, p0, nx) {
+	if !semiChol(f.l0, p0, nd) {
 		return ErrNotPosDef
 	}
-	f.p0c = nonzeroCols(f.p0c[:0], f.l0, nx)
+	f.p0c = nonzeroCols(f.p0c[:0], f.l0, nd)
+	f.eq = true
+	if f.mf != nil {
+		for i := 0; i < f.n; i++ {
+			d := f.td
+			clear(d)
+			f.addNoise(d, f.l0, f.p0c)
+			f.mf.Plus(f.x[i*nx:i*nx+nx], x0, d)
+		}
+		f.ex, f.ew = f.x, nil
+		return nil
+	}
 	for i := 0; i < f.n; i++ {
 		xi := f.x[i*nx : i*nx+nx]
 		copy(xi, x0)
 		f.addNoise(xi, f.l0, f.p0c)
 	}
-	f.eq = true
 	return nil
 }
 
@@ -344,11 +387,36 @@ func nonzeroCols(dst []int, l []float64, n int) []int {
 // Predict propagates every particle to step k and adds process noise
 // (through FW if the model has it).
 func (f *PF) Predict(k int) error {
-	f.propagate(f.alt, f.x, k)
-	f.x, f.alt = f.alt, f.x
 	f.haveInnov = false
 	f.estOK = false
+	if f.mf != nil {
+		f.propagateManifold(k)
+		f.ex, f.ew = f.x, f.weights()
+		return nil
+	}
+	f.propagate(f.alt, f.x, k)
+	f.x, f.alt = f.alt, f.x
 	return nil
+}
+
+// propagateManifold moves every particle to F(x_i) ⊞ w_i, w_i ~ N(0, Q) in
+// the tangent: F into alt, then ⊞ back into x (so Plus never aliases).
+func (f *PF) propagateManifold(k int) {
+	m := f.m
+	nx := m.Nx
+	if m.FMany != nil {
+		m.FMany(f.alt, f.x, k)
+	} else {
+		for i := 0; i < f.n; i++ {
+			m.F(f.alt[i*nx:i*nx+nx], f.x[i*nx:i*nx+nx], k)
+		}
+	}
+	d := f.td
+	for i := 0; i < f.n; i++ {
+		clear(d)
+		f.addNoise(d, f.lq, f.qcols)
+		f.mf.Plus(f.x[i*nx:i*nx+nx], f.alt[i*nx:i*nx+nx], d)
+	}
 }
 
 // propagate sets the particles dst to samples of the transition from the
@@ -412,6 +480,9 @@ func (f *PF) measure(x []float64, k int) {
 func (f *PF) Update(z []float64, k int) error {
 	f.haveInnov = false
 	if z == nil {
+		if f.mf != nil {
+			return f.checkParticles()
+		}
 		f.estimate()
 		return f.checkEstimate()
 	}
@@ -463,9 +534,17 @@ func (f *PF) Update(z []float64, k int) error {
 			f.w[i] *= inv
 		}
 		inv = 1
-		f.estimate()
+		if f.mf != nil {
+			f.ex, f.ew = f.x, f.w // kept through resampling: f.x becomes f.alt
+		} else {
+			f.estimate()
+		}
 	}
-	if err := f.checkEstimate(); err != nil {
+	if f.mf != nil {
+		if err := f.checkParticles(); err != nil {
+			return err
+		}
+	} else if err := f.checkEstimate(); err != nil {
 		return err
 	}
 
@@ -644,6 +723,15 @@ func (f *PF) pointLogLik(z, x, zh []float64, k int) float64 {
 	return -0.5 * q
 }
 
+// checkParticles returns ErrNonFinite if a particle is not finite (on a
+// manifold, where the estimate is taken only by EstimateTo).
+func (f *PF) checkParticles() error {
+	if !allFinite(f.x) {
+		return ErrNonFinite
+	}
+	return nil
+}
+
 func (f *PF) checkEstimate() error {
 	if !allFinite(f.mean) || !allFinite(f.cov) {
 		return ErrNonFinite
@@ -748,6 +836,52 @@ func (f *PF) estimate() {
 	f.estOK = true
 }
 
+// manifoldEstimate sets mean and cov to the weighted Karcher mean of the
+// particles xs on the manifold and the weighted second moment of their
+// deviations xᵢ ⊟ mean (see PF), under the normalised weights w (nil:
+// equal). On a vector space with ⊞ = + the first step gives the weighted
+// mean up to rounding.
+func (f *PF) manifoldEstimate(xs, w []float64) {
+	nx, nd, n := f.m.Nx, f.mf.Dim, f.n
+	i0 := 0
+	if w != nil {
+		for i, v := range w {
+			if v > w[i0] {
+				i0 = i
+			}
+		}
+	}
+	mean, res, d := f.mean, f.res[:n*nd], f.td
+	copy(mean, xs[i0*nx:i0*nx+nx])
+	deviate := func() {
+		for i := 0; i < n; i++ {
+			f.mf.Minus(res[i*nd:i*nd+nd], xs[i*nx:i*nx+nx], mean)
+		}
+	}
+	for it := 0; it < 2; it++ {
+		deviate()
+		for j := range d {
+			d[j] = wsum1(res[j:], w, nd)
+			if w == nil {
+				d[j] /= float64(n)
+			}
+		}
+		f.mf.Plus(f.xa, mean, d)
+		copy(mean, f.xa)
+	}
+	deviate()
+	for a := 0; a < nd; a++ {
+		for b := 0; b <= a; b++ {
+			c := wsum2(res[a:], res[b:], w, nd)
+			if w == nil {
+				c /= float64(n)
+			}
+			f.cov[a*nd+b], f.cov[b*nd+a] = c, c
+		}
+	}
+	f.estOK = true
+}
+
 // weights returns the normalised weights, or nil if they are all equal.
 func (f *PF) weights() []float64 {
 	if f.eq {
@@ -757,14 +891,19 @@ func (f *PF) weights() []float64 {
 }
 
 // EstimateTo copies the weighted particle mean into x and, if p is not nil,
-// the weighted particle covariance into p.
+// the weighted particle covariance into p (Nd*Nd; on a manifold both are
+// taken here, see PF).
 func (f *PF) EstimateTo(x, p []float64) {
-	nx := f.m.Nx
-	if len(x) != nx || (p != nil && len(p) != nx*nx) {
+	nx, nd := f.m.Nx, f.m.Nd()
+	if len(x) != nx || (p != nil && len(p) != nd*nd) {
 		panic("filters: " + f.name + ": dimension mismatch")
 	}
 	if !f.estOK {
-		f.estimate()
+		if f.mf != nil {
+			f.manifoldEstimate(f.ex, f.ew)
+		} else {
+			f.estimate()
+		}
 	}
 	copy(x, f.mean)
 	if p != nil {
