@@ -18,8 +18,9 @@
 // Model.Manifold: the maps x ⊞ δ and y ⊟ x and the dimension Nd of δ. The
 // covariances (prior, Q, EstimateTo's) are then Nd*Nd, of δ, and the
 // Jacobians are tangent Jacobians. ekf runs as the multiplicative EKF; ukf,
-// ckf and ghkf draw sigma points in δ and average on the manifold; the
-// other filters return ErrManifold from their constructors.
+// ckf and ghkf draw sigma points in δ and average on the manifold; pf
+// draws its noise in δ and adds it by ⊞, and averages its particles on the
+// manifold; the other filters return ErrManifold from their constructors.
 //
 // # Memory
 //

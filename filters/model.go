@@ -81,7 +81,7 @@ type Model struct {
 
 	// Manifold, if not nil, says the state is not a vector space (a unit
 	// quaternion, say) and how to move on it; see Manifold. Filters that
-	// support it (ekf, ukf, ckf, ghkf) work on the tangent error; the
+	// support it (ekf, ukf, ckf, ghkf, pf) work on the tangent error; the
 	// others refuse such a model.
 	Manifold *Manifold
 }
