@@ -91,13 +91,7 @@ func (f *APF) Reset(x0, p0 []float64, rng *rand.Rand) error { return f.p.Reset(x
 func (f *APF) Predict(k int) error {
 	p, m := &f.p, f.p.m
 	nx := m.Nx
-	if m.FMany != nil {
-		m.FMany(f.mu, p.x, k)
-	} else {
-		for i := 0; i < p.n; i++ {
-			m.F(f.mu[i*nx:i*nx+nx], p.x[i*nx:i*nx+nx], k)
-		}
-	}
+	m.fAll(f.mu, p.x, k)
 	if m.FW != nil {
 		nw := m.Nw
 		for i := 0; i < p.n; i++ {
@@ -225,14 +219,7 @@ func (f *APF) measureH(x []float64, k int) {
 	if m.MeasLogLik != nil {
 		return
 	}
-	nx, nz := m.Nx, m.Nz
-	if m.HMany != nil {
-		m.HMany(p.zh, x, k)
-		return
-	}
-	for i := 0; i < p.n; i++ {
-		m.H(p.zh[i*nz:i*nz+nz], x[i*nx:i*nx+nx], k)
-	}
+	m.hAll(p.zh, x, k)
 }
 
 // EstimateTo copies the weighted particle mean into x and, if p is not

@@ -202,13 +202,7 @@ func (f *EnKF) Predict(k int) error {
 			m.FW(f.alt[i*nx:i*nx+nx], f.x[i*nx:i*nx+nx], f.nw, k)
 		}
 	default:
-		if m.FMany != nil {
-			m.FMany(f.alt, f.x, k)
-		} else {
-			for i := 0; i < f.n; i++ {
-				m.F(f.alt[i*nx:i*nx+nx], f.x[i*nx:i*nx+nx], k)
-			}
-		}
+		m.fAll(f.alt, f.x, k)
 		for i := 0; i < f.n; i++ {
 			f.addNoise(f.alt[i*nx:i*nx+nx], f.lq, f.qcols)
 		}
@@ -272,13 +266,7 @@ func (f *EnKF) Update(z []float64, k int) error {
 		}
 		f.rcols = nonzeroCols(f.rcols[:0], f.lr, nz)
 	}
-	if m.HMany != nil {
-		m.HMany(f.y, f.x, k)
-	} else {
-		for i := 0; i < f.n; i++ {
-			m.H(f.y[i*nz:i*nz+nz], f.x[i*nx:i*nx+nx], k)
-		}
-	}
+	m.hAll(f.y, f.x, k)
 	f.deviations(f.dx, f.mean, f.x, nx, m.AngleState)
 	f.deviations(f.dy, f.ym, f.y, nz, m.AngleMeas)
 	c := 1 / float64(f.n-1)

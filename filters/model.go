@@ -165,6 +165,32 @@ func (m *Model) rAt(buf []float64, k int) []float64 {
 	return m.R
 }
 
+// fAll writes F of the len(x)/Nx states stored one after another in x
+// into dst, by FMany when the model has it, else by F per state.
+func (m *Model) fAll(dst, x []float64, k int) {
+	if m.FMany != nil {
+		m.FMany(dst, x, k)
+		return
+	}
+	nx := m.Nx
+	for i := 0; i < len(x)/nx; i++ {
+		m.F(dst[i*nx:i*nx+nx], x[i*nx:i*nx+nx], k)
+	}
+}
+
+// hAll writes H of the len(x)/Nx states in x into dst (Nz values each),
+// by HMany when the model has it, else by H per state.
+func (m *Model) hAll(dst, x []float64, k int) {
+	if m.HMany != nil {
+		m.HMany(dst, x, k)
+		return
+	}
+	nx, nz := m.Nx, m.Nz
+	for i := 0; i < len(x)/nx; i++ {
+		m.H(dst[i*nz:i*nz+nz], x[i*nx:i*nx+nx], k)
+	}
+}
+
 // Additive reports whether both noises enter additively.
 func (m *Model) Additive() bool { return m.FW == nil && m.HV == nil }
 

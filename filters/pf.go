@@ -402,15 +402,8 @@ func (f *PF) Predict(k int) error {
 // propagateManifold moves every particle to F(x_i) ⊞ w_i, w_i ~ N(0, Q) in
 // the tangent: F into alt, then ⊞ back into x (so Plus never aliases).
 func (f *PF) propagateManifold(k int) {
-	m := f.m
-	nx := m.Nx
-	if m.FMany != nil {
-		m.FMany(f.alt, f.x, k)
-	} else {
-		for i := 0; i < f.n; i++ {
-			m.F(f.alt[i*nx:i*nx+nx], f.x[i*nx:i*nx+nx], k)
-		}
-	}
+	nx := f.m.Nx
+	f.m.fAll(f.alt, f.x, k)
 	d := f.td
 	for i := 0; i < f.n; i++ {
 		clear(d)
@@ -433,13 +426,7 @@ func (f *PF) propagate(dst, src []float64, k int) {
 		}
 		return
 	}
-	if m.FMany != nil {
-		m.FMany(dst, src, k)
-	} else {
-		for i := 0; i < f.n; i++ {
-			m.F(dst[i*nx:i*nx+nx], src[i*nx:i*nx+nx], k)
-		}
-	}
+	m.fAll(dst, src, k)
 	if f.scalar {
 		sq, rng := f.sqQ, f.rng
 		for i := range dst {
@@ -465,12 +452,8 @@ func (f *PF) measure(x []float64, k int) {
 			f.addNoise(v, f.lv, f.vcols)
 			m.HV(f.zh[i*nz:i*nz+nz], x[i*nx:i*nx+nx], v, k)
 		}
-	case m.HMany != nil:
-		m.HMany(f.zh, x, k)
 	default:
-		for i := 0; i < f.n; i++ {
-			m.H(f.zh[i*nz:i*nz+nz], x[i*nx:i*nx+nx], k)
-		}
+		m.hAll(f.zh, x, k)
 	}
 }
 

@@ -238,12 +238,8 @@ func (c *spCore) predict(k int) error {
 				y[j] += pt[nx+j]
 			}
 		}
-	case m.FMany != nil:
-		m.FMany(c.ys[:s.np*nx], c.pts[:s.np*nx], k)
 	default:
-		for i := 0; i < s.np; i++ {
-			m.F(c.ys[i*nx:(i+1)*nx], c.pts[i*nx:(i+1)*nx], k)
-		}
+		m.fAll(c.ys[:s.np*nx], c.pts[:s.np*nx], k)
 	}
 	if c.mf != nil {
 		c.manifoldMean(s)
@@ -296,12 +292,8 @@ func (c *spCore) update(z []float64, k int) error {
 				y[j] += pt[nd+j]
 			}
 		}
-	case m.HMany != nil:
-		m.HMany(c.zs[:np*nz], c.pts[:np*nx], k)
 	default:
-		for i := 0; i < np; i++ {
-			m.H(c.zs[i*nz:(i+1)*nz], c.pts[i*nx:(i+1)*nx], k)
-		}
+		m.hAll(c.zs[:np*nz], c.pts[:np*nx], k)
 	}
 	s.mean(c.zhat, c.zs, nz, m.AngleMeas)
 	s.deviate(c.dt, c.zs, c.zhat, nz, m.AngleMeas)

@@ -224,13 +224,8 @@ func (f *SRUKF) Predict(k int) error {
 	f.hasInnov = false
 	s.devTo(f.dxT, f.sl)
 	s.pointsTo(f.pts, f.x, f.dxT)
-	if f.m.FMany != nil {
-		f.m.FMany(f.ys, f.pts, k)
-	} else {
-		for i := 0; i < s.np; i++ {
-			f.m.F(f.ys[i*nx:(i+1)*nx], f.pts[i*nx:(i+1)*nx], k)
-		}
-	}
+	f.m.fAll(f.ys, f.pts, k)
+
 	s.mean(f.x, f.ys, nx, f.m.AngleState)
 	s.deviate(f.dt, f.ys, f.x, nx, f.m.AngleState)
 	if !f.sqrtCov(f.sl, f.dt, f.lq, nx) {
@@ -253,7 +248,6 @@ func (f *SRUKF) Update(z []float64, k int) error {
 		panic("filters: dimension mismatch")
 	}
 	s := &f.set
-	np := s.np
 	// A per-step R: its square root for this step (R's again when RAt
 	// reports none, as an earlier step may have replaced it).
 	if f.m.RAt != nil && !semiChol(f.lr, f.m.rAt(f.rbuf, k), nz) {
@@ -261,13 +255,7 @@ func (f *SRUKF) Update(z []float64, k int) error {
 	}
 	s.devTo(f.dxT, f.sl)
 	s.pointsTo(f.pts, f.x, f.dxT)
-	if f.m.HMany != nil {
-		f.m.HMany(f.zs, f.pts, k)
-	} else {
-		for i := 0; i < np; i++ {
-			f.m.H(f.zs[i*nz:(i+1)*nz], f.pts[i*nx:(i+1)*nx], k)
-		}
-	}
+	f.m.hAll(f.zs, f.pts, k)
 	s.mean(f.zhat, f.zs, nz, f.m.AngleMeas)
 	s.deviate(f.dt, f.zs, f.zhat, nz, f.m.AngleMeas)
 	if !f.sqrtCov(f.sz, f.dt, f.lr, nz) {
