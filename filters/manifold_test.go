@@ -266,16 +266,7 @@ func TestManifoldAttitudeConsistent(t *testing.T) {
 			}
 			z := make([]float64, 6)
 			for k := 1; k <= steps; k++ {
-				nxt := make([]float64, 4)
-				sim.F(nxt, truth, k)
-				for i := range d {
-					d[i] = 1e-2 * rng.NormFloat64()
-				}
-				so3.Plus(truth, nxt, d)
-				sim.H(z, truth, k)
-				for i := range z {
-					z[i] += 2e-2 * rng.NormFloat64()
-				}
+				simulateAttitude(sim, truth, z, k, rng)
 				if err := f.Predict(k); err != nil {
 					t.Fatalf("%s run %d step %d: %v", name, r, k, err)
 				}
@@ -302,6 +293,22 @@ func TestManifoldAttitudeConsistent(t *testing.T) {
 		if anees < lo || anees > hi {
 			t.Errorf("%s: ANEES %.3f outside [%.3f, %.3f]", name, anees, lo, hi)
 		}
+	}
+}
+
+// simulateAttitude moves the true attitude of attitudeModel sim one step,
+// truth ← F(truth) ⊞ w with w ~ N(0, 1e-4 I) (the model's Q), and writes its
+// measurement with noise of variance 4e-4 (the model's R) into z.
+func simulateAttitude(sim *filters.Model, truth, z []float64, k int, rng *rand.Rand) {
+	nxt, d := make([]float64, 4), make([]float64, 3)
+	sim.F(nxt, truth, k)
+	for i := range d {
+		d[i] = 1e-2 * rng.NormFloat64()
+	}
+	so3.Plus(truth, nxt, d)
+	sim.H(z, truth, k)
+	for i := range z {
+		z[i] += 2e-2 * rng.NormFloat64()
 	}
 }
 
@@ -511,20 +518,12 @@ func TestManifoldPFAttitude(t *testing.T) {
 		if err := pf.Reset(x0, p0, rand.New(rand.NewPCG(seed, 6))); err != nil {
 			t.Fatal(err)
 		}
-		z, nxt := make([]float64, 6), make([]float64, 4)
+		z := make([]float64, 6)
 		xp, pp := make([]float64, 4), make([]float64, 9)
 		xr, pr := make([]float64, 4), make([]float64, 9)
 		var worstMean, worstCov float64
 		for k := 1; k <= steps; k++ {
-			sim.F(nxt, truth, k)
-			for i := range d {
-				d[i] = 1e-2 * rng.NormFloat64()
-			}
-			so3.Plus(truth, nxt, d)
-			sim.H(z, truth, k)
-			for i := range z {
-				z[i] += 2e-2 * rng.NormFloat64()
-			}
+			simulateAttitude(sim, truth, z, k, rng)
 			for _, f := range []filters.Filter{ekf, ukf, pf} {
 				if err := f.Predict(k); err != nil {
 					t.Fatalf("seed %d step %d: %v", seed, k, err)
