@@ -42,6 +42,20 @@ func broadDir(t testing.TB) string {
 	return dir
 }
 
+// broadRecording reads the BROAD sample folder with the shipped mapping.
+func broadRecording(t testing.TB) *recorded.Recording {
+	t.Helper()
+	m, err := recorded.ShippedMapping("broad-imu-mocap")
+	if err != nil {
+		t.Fatal(err)
+	}
+	rec, err := recorded.LoadCSV(m, broadDir(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	return rec
+}
+
 func loadBROAD(t testing.TB, c Config) *data {
 	t.Helper()
 	c.File = broadDir(t)
@@ -331,14 +345,7 @@ func TestErrors(t *testing.T) {
 // exactly as it reads the CSV folder: the normalised form round-trips.
 func TestArrowRecordingSameAsFolder(t *testing.T) {
 	dir := broadDir(t)
-	m, err := recorded.ShippedMapping("broad-imu-mocap")
-	if err != nil {
-		t.Fatal(err)
-	}
-	rec, err := recorded.LoadCSV(m, dir)
-	if err != nil {
-		t.Fatal(err)
-	}
+	rec := broadRecording(t)
 	file := filepath.Join(t.TempDir(), "trial.arrow")
 	if err := recorded.WriteFile(file, rec); err != nil {
 		t.Fatal(err)

@@ -2,12 +2,12 @@ package attitude_test
 
 import (
 	"math"
-	"os"
 	"path/filepath"
 	"strings"
 	"testing"
 
 	"github.com/estbench/estbench/bench"
+	"github.com/estbench/estbench/datasets/attitude"
 	"github.com/estbench/estbench/datasets/recorded"
 )
 
@@ -18,21 +18,7 @@ import (
 // Run through the suite runner on an .arrow recording with 100 rows of the
 // movement phase blanked.
 func TestTruthGapsNotScored(t *testing.T) {
-	dir := filepath.Join("..", "..", "..", "shared", "datasets", "broad-imu-mocap")
-	if _, err := os.Stat(dir); err != nil {
-		if os.Getenv("CI") == "true" {
-			t.Fatalf("shared sample missing under CI: %v", err)
-		}
-		t.Skipf("shared BROAD sample not present (expected beside the project at ../shared/datasets): %v", err)
-	}
-	m, err := recorded.ShippedMapping("broad-imu-mocap")
-	if err != nil {
-		t.Fatal(err)
-	}
-	rec, err := recorded.LoadCSV(m, dir)
-	if err != nil {
-		t.Fatal(err)
-	}
+	rec := attitude.BROADRecording(t)
 	for _, name := range []string{"true_quat_w", "true_quat_x", "true_quat_y", "true_quat_z"} {
 		c := rec.Column(name)
 		c.Valid = recorded.NewBitmap(rec.Len())
