@@ -549,15 +549,12 @@ func (w *worker) score(tr *metrics.RunTrace) {
 		// A step not scored is checked like one without truth: its truth
 		// may be missing (NaN where a reference lost the target).
 		unscored := noTruth || (w.prob.Eval != nil && !w.prob.Eval[i])
+		// Its error is zero: the estimate's finiteness is checked on x below.
 		switch {
-		case m.Manifold != nil && unscored:
-			m.Manifold.Minus(w.err, x, x) // 0, or NaN for a non-finite estimate
+		case unscored:
+			clear(w.err)
 		case m.Manifold != nil:
 			m.Manifold.Minus(w.err, w.seq.State(k), x)
-		case unscored:
-			for j := range x {
-				w.err[j] = x[j] - x[j] // 0, or NaN for a non-finite estimate
-			}
 		default:
 			truth := w.seq.State(k)
 			for j := range x {
