@@ -263,11 +263,11 @@ const evalCol = "evaluate"
 // extract checks and copies what the problem needs from rec.
 func extract(rec *recorded.Recording, c Config) (*data, error) {
 	name := rec.Meta.Dataset + " " + rec.Meta.Sequence
-	need := append(append([]string{}, gyroCols...), accelCols...)
-	need = append(need, quatCols...)
+	sensors := slices.Concat(gyroCols, accelCols)
 	if c.Magnetometer {
-		need = append(need, magCols...)
+		sensors = append(sensors, magCols...)
 	}
+	need := slices.Concat(sensors, quatCols)
 	cols := map[string]*recorded.Column{}
 	for _, n := range need {
 		col := rec.Column(n)
@@ -289,10 +289,7 @@ func extract(rec *recorded.Recording, c Config) (*data, error) {
 	// The sensors must be complete; the reference may lose the target
 	// (optical occlusion): such rows have NaN truth and are not scored.
 	for i := 0; i < rows; i++ {
-		for _, n := range need {
-			if slices.Contains(quatCols, n) {
-				continue
-			}
+		for _, n := range sensors {
 			if !finite(cols[n], i) {
 				return nil, fmt.Errorf("datasets: attitude: %s: row %d (t = %.4f s): %s has no finite sample; the problem needs every sensor row complete (choose a window without gaps)", name, i, rec.T[i], n)
 			}
